@@ -1,0 +1,485 @@
+/**
+ * Analysis of a flow table under the engine contract (issue: "Analysis: semantics"): stable total
+ * states, power-up, reachability under single-input changes (SIC), and findings with drawable paths.
+ *
+ * Cost: one linear settling pass (reachability.ts), one pass over the reachable stable total states
+ * times the inputs (SIC checks are O(1) each from the per-cell summaries), and one pass times the
+ * input pairs for double changes. Strings are only built for listed findings.
+ */
+import { cellBits, columnToKey, countColumns, NONE, type CellRef, type FlowTable } from './model';
+import { SETTLE_OK, SETTLE_OSCILLATION, SETTLE_UNSPECIFIED } from './settle';
+import {
+  FINDINGS_PER_CODE,
+  SEVERITY_OF,
+  rankCode,
+  type Finding,
+  type FindingCode,
+  type Fix,
+  type Outcome,
+  type PathStep,
+  type Severity,
+} from './findings';
+import { computeReach, grayColumns, grayRank, settleCells, type Reach } from './reachability';
+
+/** How power-up went in one column. */
+export interface PowerUpResult {
+  inputs: string;
+  result: 'stable' | 'unspecified' | 'oscillation';
+  /** The settled state, or null when settling failed. */
+  state: string | null;
+  path: PathStep[];
+}
+
+/** Everything analysis reports about one table. */
+export interface Analysis {
+  /** Every stable total state of the table, by state then grid column order. */
+  stable: CellRef[];
+  /** States on any power-up or SIC path, transient ones included, in table order. */
+  reachable: string[];
+  /** Stable total states reached by power-up or SIC, by state then grid column order. */
+  reachableStable: CellRef[];
+  /** One entry per column, in grid order. */
+  powerUp: PowerUpResult[];
+  /** Sorted by severity, then code, then place (state order, grid column order, input order). */
+  findings: Finding[];
+  /** Problems per severity, including those past the per-code cap; the truncation notes are not counted. */
+  counts: Record<Severity, number>;
+}
+
+/** Options of analyzeTable. */
+export interface AnalyzeOptions {
+  /** Most findings listed per code (default FINDINGS_PER_CODE). */
+  limit?: number;
+}
+
+/** A traced settle path with its end. */
+export interface SettleTrace {
+  steps: PathStep[];
+  end: 'stable' | 'unspecified' | 'oscillation';
+  /** The stable or unspecified cell's state, or the repeated state of an oscillation. */
+  state: number;
+  /** Oscillation: the states on the loop, in visiting order. */
+  cycle?: number[];
+}
+
+/**
+ * Traces settling of `state` in `column` as path steps. With `start` (a stable total state the
+ * event begins in) the first step is that cell; without it the first cell is marked `start`
+ * unless settling ends there.
+ */
+export function traceSettle(t: FlowTable, state: number, column: number, start?: { state: number; column: number }): SettleTrace {
+  const cols = countColumns(t.inputs.length);
+  const key = columnToKey(column, t.inputs.length);
+  const steps: PathStep[] = [];
+  const withStart = start !== undefined;
+  if (start) steps.push(stepAt(t, start.state, start.column, 'start'));
+  const order: number[] = [];
+  const seen = new Map<number, number>();
+  let s = state;
+  for (;;) {
+    const cell = s * cols + column;
+    const nx = t.next[cell]!;
+    seen.set(s, order.length);
+    order.push(s);
+    if (nx === NONE) {
+      steps.push({ state: t.states[s]!, inputs: key, kind: 'unspecified', outputs: cellBits(t, cell) });
+      return { steps, end: 'unspecified', state: s };
+    }
+    if (nx === s) {
+      steps.push({ state: t.states[s]!, inputs: key, kind: 'stable', outputs: cellBits(t, cell) });
+      return { steps, end: 'stable', state: s };
+    }
+    steps.push({ state: t.states[s]!, inputs: key, kind: !withStart && steps.length === 0 ? 'start' : 'transient', outputs: cellBits(t, cell) });
+    const again = seen.get(nx);
+    if (again !== undefined) {
+      steps.push({ state: t.states[nx]!, inputs: key, kind: 'repeat', outputs: cellBits(t, nx * cols + column) });
+      return { steps, end: 'oscillation', state: nx, cycle: order.slice(again) };
+    }
+    s = nx;
+  }
+}
+
+function stepAt(t: FlowTable, state: number, column: number, kind: PathStep['kind']): PathStep {
+  const cell = state * countColumns(t.inputs.length) + column;
+  return { state: t.states[state]!, inputs: columnToKey(column, t.inputs.length), kind, outputs: cellBits(t, cell) };
+}
+
+/** Lists names as `a`, `a and b`, `a, b and c`. */
+function listNames(names: string[]): string {
+  if (names.length <= 1) return names.join('');
+  return `${names.slice(0, -1).join(', ')} and ${names[names.length - 1]}`;
+}
+
+/** Collects findings of one code in generation order, listing the first `limit` and counting the rest. */
+class CodeList {
+  readonly listed: Finding[] = [];
+  total = 0;
+  constructor(
+    readonly code: FindingCode,
+    readonly limit: number,
+  ) {}
+  /** True when the next finding will be listed (so the caller builds it). */
+  get open(): boolean {
+    return this.total < this.limit;
+  }
+  add(build: () => Omit<Finding, 'code' | 'severity'>): void {
+    if (this.total < this.limit) this.listed.push({ code: this.code, severity: SEVERITY_OF[this.code], ...build() });
+    this.total++;
+  }
+}
+
+/** Analyzes a table: stable and reachable total states, power-up, and sorted findings. */
+export function analyzeTable(t: FlowTable, options: AnalyzeOptions = {}): Analysis {
+  const limit = Math.max(0, options.limit ?? FINDINGS_PER_CODE);
+  const cells = settleCells(t);
+  const reach = computeReach(t, cells);
+  return buildAnalysis(t, reach, limit);
+}
+
+function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
+  const n = t.inputs.length;
+  const m = t.outputs.length;
+  const ns = t.states.length;
+  const cols = reach.cells.columns;
+  const { term, fault, firstCare, firstValue, once, twice, risk } = reach.cells;
+  const next = t.next;
+  const outCare = t.outCare;
+  const outValue = t.outValue;
+  const names = t.states;
+  const keys: string[] = [];
+  for (let c = 0; c < cols; c++) keys.push(columnToKey(c, n));
+  const gray = grayColumns(n);
+  const rank = grayRank(n);
+  const lists = new Map<FindingCode, CodeList>();
+  const list = (code: FindingCode): CodeList => {
+    let l = lists.get(code);
+    if (!l) lists.set(code, (l = new CodeList(code, limit)));
+    return l;
+  };
+  const where = (s: number, c: number): string => `(${names[s]}, ${keys[c]})`;
+
+  // stable total states, and rows without one
+  const stable: CellRef[] = [];
+  const reachableStable: CellRef[] = [];
+  const ordered: number[] = [];
+  const noStable = list('no-stable-state');
+  for (let s = 0; s < ns; s++) {
+    const base = s * cols;
+    let any = false;
+    for (let g = 0; g < cols; g++) {
+      const c = gray[g]!;
+      if (next[base + c] !== s) continue;
+      any = true;
+      stable.push({ state: names[s]!, inputs: keys[c]! });
+      if (reach.reachStable[base + c]) {
+        reachableStable.push({ state: names[s]!, inputs: keys[c]! });
+        ordered.push(base + c);
+      }
+    }
+    if (!any) noStable.add(() => ({ state: names[s]!, message: `Row ${names[s]} has no stable cell.`, path: [] }));
+  }
+
+  // first source of each failure place: >= 0 is an SIC (stable cell * n + bit), <= -2 a power-up column
+  // (an unspecified cell and a cycle's representative cell are never the same cell)
+  const source = new Int32Array(term.length).fill(-1);
+  const hits = new Int32Array(term.length);
+  const unspecCells: number[] = [];
+  const oscCells: number[] = [];
+  const noteFailure = (e: number, src: number): void => {
+    const place = term[e]!;
+    if (hits[place] === 0) {
+      source[place] = src;
+      (fault[e] === SETTLE_UNSPECIFIED ? unspecCells : oscCells).push(place);
+    }
+    hits[place] = hits[place]! + 1;
+  };
+
+  const powerUp: PowerUpResult[] = [];
+  const powerUpUnspec = list('unspecified-power-up');
+  for (let g = 0; g < cols; g++) {
+    const c = gray[g]!;
+    const cell = t.reset * cols + c;
+    const tr = traceSettle(t, t.reset, c);
+    const f = fault[cell]!;
+    powerUp.push({ inputs: keys[c]!, result: tr.end, state: f === SETTLE_OK ? names[term[cell]! >> n]! : null, path: tr.steps });
+    if (f === SETTLE_OK) continue;
+    if (f === SETTLE_OSCILLATION) noteFailure(cell, -2 - c);
+    else {
+      const u = term[cell]! >> n;
+      powerUpUnspec.add(() => ({
+        inputs: keys[c]!,
+        state: names[u]!,
+        message: `Power-up with inputs ${keys[c]} reaches the unspecified cell ${where(u, c)}.`,
+        path: tr.steps,
+        fix: suggestCell(t, u, c, keys[c]!),
+      }));
+    }
+  }
+
+  const glitches = list('output-glitch');
+  const hazards = list('output-hazard');
+  const doubles = list('order-dependent-double-change');
+  const via = new Int32Array(Math.max(n, 1));
+  for (let i = 0; i < ordered.length; i++) {
+    const x = ordered[i]!;
+    const s = x >> n;
+    const base = s << n;
+    const c = x - base;
+    const care0 = outCare[x]!;
+    const val0 = outValue[x]! & care0;
+    for (let k = 0; k < n; k++) {
+      const c2 = c ^ (1 << k);
+      const e = base + c2;
+      const f = fault[e]!;
+      if (f !== SETTLE_OK) {
+        via[k] = NONE;
+        noteFailure(e, x * n + k);
+        continue;
+      }
+      via[k] = term[e]! >> n;
+      if (m === 0) continue;
+      const fc = firstCare[e]!;
+      const fv = firstValue[e]!;
+      const onceE = once[e]!;
+      const g = (twice[e]! | (care0 & fc & (val0 ^ fv) & onceE)) >>> 0;
+      if (g !== 0) {
+        for (let o = 0; o < m; o++) if ((g >>> o) & 1) glitches.add(() => describeGlitch(t, s, c, k, o));
+      }
+      // same rule as riskyEntry, inlined
+      const entry = next[e] !== s ? ~outCare[e]! & fc & (~care0 | ~(val0 ^ fv)) : 0;
+      const h = ((risk[e]! | entry) & ~g) >>> 0;
+      if (h !== 0) {
+        for (let o = 0; o < m; o++) if ((h >>> o) & 1) hazards.add(() => describeHazard(t, s, c, k, o));
+      }
+    }
+    for (let a = 0; a < n; a++) {
+      for (let b = a + 1; b < n; b++) {
+        const target = c ^ (1 << a) ^ (1 << b);
+        const va = via[a]!;
+        const vb = via[b]!;
+        const direct = base + target;
+        const sd = fault[direct] === SETTLE_OK ? term[direct]! >> n : NONE;
+        if (sd !== NONE && va !== NONE && vb !== NONE) {
+          const ca = (va << n) + target;
+          const cb = (vb << n) + target;
+          if (fault[ca] === SETTLE_OK && fault[cb] === SETTLE_OK && term[ca]! >> n === sd && term[cb]! >> n === sd) continue;
+        }
+        doubles.add(() => describeDoubleChange(t, s, c, a, b));
+      }
+    }
+  }
+
+  // unspecified transitions, one per unspecified cell, in state then grid column order
+  const unspec = list('unspecified-transition');
+  unspecCells.sort((p, q) => (p >> n) - (q >> n) || rank[p & (cols - 1)]! - rank[q & (cols - 1)]!);
+  for (const u of unspecCells) {
+    const src = source[u]!;
+    if (src < 0) continue;
+    unspec.add(() => {
+      const us = u >> n;
+      const uc = u & (cols - 1);
+      const x = Math.floor(src / Math.max(n, 1));
+      const k = src - x * n;
+      const s = x >> n;
+      const c = x & (cols - 1);
+      const tr = traceSettle(t, s, c ^ (1 << k), { state: s, column: c });
+      const others = hits[u]! - 1;
+      return {
+        state: names[us]!,
+        inputs: keys[uc]!,
+        message:
+          `From stable ${where(s, c)}, changing ${t.inputs[k]} reaches the unspecified cell ${where(us, uc)}` +
+          (others > 0 ? `, as ${others === 1 ? 'does 1 other single-input change' : `do ${others} other single-input changes`}.` : '.'),
+        path: tr.steps,
+        fix: suggestCell(t, us, uc, keys[uc]!),
+      };
+    });
+  }
+
+  // oscillations, one per (column, cycle), in grid column then state order
+  const osc = list('oscillation');
+  oscCells.sort((p, q) => rank[p & (cols - 1)]! - rank[q & (cols - 1)]! || (p >> n) - (q >> n));
+  for (const rep of oscCells) {
+    osc.add(() => {
+      const src = source[rep]!;
+      const c2 = rep & (cols - 1);
+      let tr: SettleTrace;
+      let how: string;
+      if (src <= -2) {
+        tr = traceSettle(t, t.reset, c2);
+        how = 'at power-up';
+      } else {
+        const x = Math.floor(src / Math.max(n, 1));
+        const k = src - x * n;
+        const s = x >> n;
+        const c = x & (cols - 1);
+        tr = traceSettle(t, s, c2, { state: s, column: c });
+        how = `from stable ${where(s, c)} by changing ${t.inputs[k]}`;
+      }
+      const cycle = (tr.cycle ?? []).map((s) => names[s]!).sort();
+      return {
+        inputs: keys[c2]!,
+        cycle,
+        message: `Settling in column ${keys[c2]} loops through ${listNames(cycle)}, reached ${how}.`,
+        path: tr.steps,
+      };
+    });
+  }
+
+  const unreachable = list('unreachable-state');
+  for (let s = 0; s < ns; s++) {
+    if (reach.reachableState[s]) continue;
+    unreachable.add(() => ({
+      state: names[s]!,
+      message: `State ${names[s]} is never reached from power-up or by a single-input change.`,
+      path: [],
+      fix: { action: 'remove-state', label: `Remove state ${names[s]}`, state: names[s]! },
+    }));
+  }
+
+  const reachable: string[] = [];
+  for (let s = 0; s < ns; s++) if (reach.reachableState[s]) reachable.push(names[s]!);
+
+  const counts: Record<Severity, number> = { error: 0, warning: 0, info: 0 };
+  const findings: Finding[] = [];
+  const codes = [...lists.keys()].sort((p, q) => rankCode(p) - rankCode(q));
+  for (const code of codes) {
+    const l = lists.get(code)!;
+    counts[SEVERITY_OF[code]] += l.total;
+    findings.push(...l.listed);
+    if (l.total > l.listed.length) {
+      const omitted = l.total - l.listed.length;
+      findings.push({
+        code: 'findings-truncated',
+        severity: SEVERITY_OF['findings-truncated'],
+        of: code,
+        omitted,
+        message: `${omitted} more ${code} finding${omitted === 1 ? ' is' : 's are'} not listed.`,
+        path: [],
+      });
+    }
+  }
+  return { stable, reachable, reachableStable, powerUp, findings, counts };
+}
+
+/**
+ * Suggests a next state for an unspecified cell: the first state (table order) that is stable in
+ * that column, so the change lands on an existing stable total state; otherwise the cell's own
+ * state, which makes the cell stable.
+ */
+function suggestCell(t: FlowTable, state: number, column: number, key: string): Fix {
+  const cols = countColumns(t.inputs.length);
+  let target = state;
+  for (let s = 0; s < t.states.length; s++) {
+    if (t.next[s * cols + column] === s) {
+      target = s;
+      break;
+    }
+  }
+  const cellName = `(${t.states[state]}, ${key})`;
+  return {
+    action: 'add-cell',
+    label: target === state ? `Make ${cellName} stable` : `Send ${cellName} to ${t.states[target]}`,
+    state: t.states[state]!,
+    inputs: key,
+    next: t.states[target]!,
+  };
+}
+
+/** Specified values of output `o` along an SIC path (start cell, then the settle path), don't-cares dropped. */
+function valuesAlong(t: FlowTable, s: number, c: number, c2: number, o: number): { values: number[]; cells: number[]; end: number } {
+  const cols = countColumns(t.inputs.length);
+  const values: number[] = [];
+  const cells: number[] = [];
+  const start = s * cols + c;
+  if ((t.outCare[start]! >>> o) & 1) values.push((t.outValue[start]! >>> o) & 1);
+  let x = s;
+  const seen = new Set<number>();
+  for (;;) {
+    const cell = x * cols + c2;
+    cells.push(cell);
+    if ((t.outCare[cell]! >>> o) & 1) values.push((t.outValue[cell]! >>> o) & 1);
+    const nx = t.next[cell]!;
+    if (nx === x || nx === NONE || seen.has(nx)) return { values, cells, end: x };
+    seen.add(x);
+    x = nx;
+  }
+}
+
+function describeGlitch(t: FlowTable, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
+  const n = t.inputs.length;
+  const c2 = c ^ (1 << k);
+  const { values, end } = valuesAlong(t, s, c, c2, o);
+  const tr = traceSettle(t, s, c2, { state: s, column: c });
+  return {
+    state: t.states[s]!,
+    from: columnToKey(c, n),
+    inputs: columnToKey(c2, n),
+    output: t.outputs[o]!,
+    message: `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[k]} makes ${t.outputs[o]} go ${values.join(', ')} before it settles in (${t.states[end]}, ${columnToKey(c2, n)}).`,
+    path: tr.steps,
+  };
+}
+
+function describeHazard(t: FlowTable, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
+  const n = t.inputs.length;
+  const cols = countColumns(n);
+  const c2 = c ^ (1 << k);
+  const key2 = columnToKey(c2, n);
+  const { cells } = valuesAlong(t, s, c, c2, o);
+  // replay the risk rule along the path to name the open cells and the values fill would give them
+  const filled: number[] = [];
+  let after = -1;
+  for (let i = cells.length - 1; i >= 0; i--) {
+    const cell = cells[i]!;
+    if ((t.outCare[cell]! >>> o) & 1) after = (t.outValue[cell]! >>> o) & 1;
+    filled[i] = after;
+  }
+  const start = s * cols + c;
+  let before = (t.outCare[start]! >>> o) & 1 ? (t.outValue[start]! >>> o) & 1 : -1;
+  const parts: string[] = [];
+  for (let i = 0; i < cells.length - 1; i++) {
+    const cell = cells[i]!;
+    const open = !((t.outCare[cell]! >>> o) & 1);
+    if (open && filled[i]! >= 0 && (before === -1 || before === filled[i])) parts.push(`${filled[i]} in (${t.states[(cell / cols) | 0]}, ${key2})`);
+    before = filled[i]!;
+  }
+  const tr = traceSettle(t, s, c2, { state: s, column: c });
+  return {
+    state: t.states[s]!,
+    from: columnToKey(c, n),
+    inputs: key2,
+    output: t.outputs[o]!,
+    message: `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[k]} passes transient cells where ${t.outputs[o]} is a don't-care that could add a change; output fill would set it to ${listNames(parts)}.`,
+    path: tr.steps,
+    fix: { action: 'fill-outputs', label: 'Fill don\'t-care outputs in transient cells' },
+  };
+}
+
+function describeDoubleChange(t: FlowTable, s: number, c: number, a: number, b: number): Omit<Finding, 'code' | 'severity'> {
+  const n = t.inputs.length;
+  const target = c ^ (1 << a) ^ (1 << b);
+  const start = { state: s, column: c };
+  const ordered = (first: number, second: number): Outcome => {
+    const mid = c ^ (1 << first);
+    const one = traceSettle(t, s, mid, start);
+    const label = `${t.inputs[first]} then ${t.inputs[second]}`;
+    if (one.end !== 'stable') return { label, state: null, path: one.steps };
+    const two = traceSettle(t, one.state, target);
+    const steps = [...one.steps, ...two.steps.map((p) => (p.kind === 'start' ? { ...p, kind: 'transient' as const } : p))];
+    return { label, state: two.end === 'stable' ? t.states[two.state]! : null, path: steps };
+  };
+  const ab = ordered(a, b);
+  const ba = ordered(b, a);
+  const d = traceSettle(t, s, target, start);
+  const direct: Outcome = { label: 'together', state: d.end === 'stable' ? t.states[d.state]! : null, path: d.steps };
+  const say = (o: Outcome): string => (o.state === null ? 'fails' : `ends in ${o.state}`);
+  return {
+    state: t.states[s]!,
+    from: columnToKey(c, n),
+    inputs: columnToKey(target, n),
+    message: `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[a]} and ${t.inputs[b]} together is order-dependent: ${ab.label} ${say(ab)}, ${ba.label} ${say(ba)}, and together it ${say(direct)}.`,
+    path: d.steps,
+    outcomes: [ab, ba, direct],
+  };
+}

@@ -1,0 +1,77 @@
+import { describe, expect, it } from 'vitest';
+import {
+  columnToKey,
+  FlowTableError,
+  grayKeys,
+  interchangeToTable,
+  keyToColumn,
+  tableToInterchange,
+  tablesEqual,
+} from '../../../src/lib/engine/model';
+
+const door = {
+  format: 'quiesce-flow-table',
+  version: 1,
+  name: 'door_interlock',
+  inputs: ['door_closed', 'key'],
+  outputs: ['unlock'],
+  states: ['idle', 'armed', 'open'],
+  reset: 'idle',
+  rows: {
+    idle: { '00': 'idle/0', '01': 'armed/0', '11': '-', '10': 'idle/0' },
+    armed: { '00': 'idle/0', '01': 'armed/0', '11': 'open/-', '10': '-' },
+    open: { '00': '-', '01': 'armed/0', '11': 'open/1', '10': 'idle/0' },
+  },
+};
+
+function issuesOf(value: unknown): string[] {
+  try {
+    interchangeToTable(value);
+  } catch (e) {
+    expect(e).toBeInstanceOf(FlowTableError);
+    return (e as FlowTableError).issues.map((i) => `${i.where}: ${i.message}`);
+  }
+  throw new Error('expected a FlowTableError');
+}
+
+describe('interchange model', () => {
+  it('reads the DESIGN.md example and writes it back canonically', () => {
+    const t = interchangeToTable(door);
+    expect(t.states).toEqual(['idle', 'armed', 'open']);
+    const back = tableToInterchange(t);
+    expect(back.rows.armed).toEqual({ '00': 'idle/0', '01': 'armed/0', '11': 'open/-' });
+    expect(tablesEqual(interchangeToTable(back), t)).toBe(true);
+  });
+
+  it('column keys put inputs[k] at character k and bit k', () => {
+    expect(keyToColumn('01')).toBe(2);
+    expect(columnToKey(2, 2)).toBe('01');
+    for (let c = 0; c < 16; c++) expect(keyToColumn(columnToKey(c, 4))).toBe(c);
+  });
+
+  it('lays out columns in Gray order, neighbours differing in one bit (common practice, no source)', () => {
+    expect(grayKeys(2)).toEqual(['00', '01', '11', '10']);
+    const keys = grayKeys(4);
+    expect(new Set(keys).size).toBe(16);
+    for (let i = 0; i < keys.length; i++) {
+      const a = keys[i]!;
+      const b = keys[(i + 1) % keys.length]!;
+      expect([...a].filter((ch, k) => ch !== b[k]).length).toBe(1);
+    }
+  });
+
+  it('names the exact place of every problem', () => {
+    expect(issuesOf({ ...door, rows: { ...door.rows, armed: { '11': 'opne/0' } } })).toEqual([
+      'rows.armed["11"]: unknown state "opne"',
+    ]);
+    expect(issuesOf({ ...door, inputs: ['door_closed', 'key', 'key'] })[0]).toBe('inputs[2]: duplicate name "key"');
+    expect(issuesOf({ ...door, reset: 'nowhere' })).toContain('reset: unknown state "nowhere"');
+    expect(issuesOf({ ...door, rows: { idle: { '0x': 'idle/0' } } })[0]).toMatch(/^rows\.idle\["0x"\]: column key/);
+    expect(issuesOf({ ...door, rows: { idle: { '00': 'idle/01' } } })[0]).toMatch(/^rows\.idle\["00"\]: output bits "01"/);
+    expect(issuesOf({ ...door, states: 'idle' })[0]).toMatch(/^states: /);
+    expect(issuesOf({ ...door, colour: 'red' })).toEqual(['(document): unknown field "colour"']);
+    expect(issuesOf({ ...door, inputs: Array.from({ length: 13 }, (_, i) => `i${i}`) })[0]).toMatch(/^inputs: at most 12 inputs/);
+    expect(issuesOf({ ...door, states: ['x'.repeat(65)] })[0]).toMatch(/^states\[0\]: names are 1 to 64/);
+    expect(issuesOf(null)[0]).toMatch(/^\(document\)/);
+  });
+});
