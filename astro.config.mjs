@@ -4,6 +4,7 @@ import node from '@astrojs/node';
 import react from '@astrojs/react';
 import tailwindcss from '@tailwindcss/vite';
 import path from 'node:path';
+import { stripMonacoCdn } from './src/lib/build/strip-cdn.ts';
 
 /**
  * Host patterns Astro trusts for the Host / X-Forwarded-Host headers.
@@ -45,7 +46,7 @@ export default defineConfig({
   },
   devToolbar: { enabled: false },
   vite: {
-    plugins: [tailwindcss()],
+    plugins: [tailwindcss(), stripMonacoCdn()],
     server: {
       watch: {
         ignored: [`${dataDir}/**`, '**/.data/**', '**/.data-*/**', '**/test-output/**', '**/dist/**', '**/dist-*/**', '**/target/**'],

@@ -3,6 +3,8 @@
 declare namespace App {
   /** Per-request values set by src/middleware.ts, read by every page and endpoint. */
   interface Locals {
+    /** The process-wide database client (src/lib/server/db.ts). */
+    db: import('./lib/server/db').Db;
     /** The signed-in user, or null when anonymous. */
     user: import('./lib/server/session').SessionUser | null;
     /** The current session, or null when anonymous. */

@@ -80,8 +80,7 @@ export default function StateDiagram({ table: t, reachable, path, onSelectState 
       const label = edgeLabel(e.keys);
       return { id: `e${i}`, sources: [`n${e.from}`], targets: [`n${e.to}`], labels: [{ id: `l${i}`, text: label, width: label.length * 6.6 + 6, height: 14 }] };
     });
-    elk
-      .layout({
+    const graphIn: ElkNode = {
         id: 'root',
         layoutOptions: {
           'elk.algorithm': 'layered',
@@ -95,8 +94,10 @@ export default function StateDiagram({ table: t, reachable, path, onSelectState 
         },
         children,
         edges,
-      })
-      .then((res) => {
+      };
+    elk
+      .layout(graphIn)
+      .then((res: ElkNode) => {
         if (cancelled) return;
         const out: Layout = { width: (res.width ?? 400) + 10, height: (res.height ?? 200) + 10, nodes: [], edges: [] };
         for (const n of res.children ?? []) out.nodes.push({ id: Number(n.id.slice(1)), x: n.x ?? 0, y: n.y ?? 0, w: n.width ?? 60, h: n.height ?? 40 });

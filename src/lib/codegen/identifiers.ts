@@ -187,8 +187,10 @@ export function buildIdentifiers(t: Pick<FlowTable, 'states' | 'inputs' | 'outpu
     if (rustTag === null) {
       // enum variants: UpperCamelCase, never a leading digit, never `Self`
       const bases = words.map((w) => {
-        let v = cut(wordsToCamel(w), MAX_IDENTIFIER - 4);
+        let v = cut(wordsToCamel(w), MAX_IDENTIFIER - 9);
         if (/^[0-9]/.test(v)) v = `S${v}`;
+        // `Self` is the one keyword UpperCamelCase can produce; the others are listed for safety
+        if (RUST_KEYWORDS.has(v)) v = `${v}State`;
         return v;
       });
       rust = resolveCollisions(bases, '', RUST_KEYWORDS);

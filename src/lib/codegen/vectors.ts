@@ -9,8 +9,11 @@ import { computeReach, runtimeFromCells, type Reach } from '../engine/reachabili
 import { buildTour } from '../engine/tour';
 import { SETTLE_OK } from '../engine/settle';
 
-/** Expected machine after one snapshot. `fault` is the index in FAULT_REASONS. */
+/** One snapshot and the expected machine after it. `fault` is the index in FAULT_REASONS. */
 export interface StepVector {
+  /** The snapshot applied. */
+  event: number;
+  /** The snapshot the machine holds afterwards (the previous one when the event faulted). */
   inputs: number;
   state: number;
   outputs: number;
@@ -61,7 +64,7 @@ function runSequence(rt: Runtime, name: string, columns: number[]): SequenceVect
   for (const c of columns) {
     const o = m === undefined ? powerUp(rt, c) : stepMachine(rt, m, c);
     m = o.next;
-    steps.push({ inputs: m.column, state: m.state, outputs: m.outputs, fault: faultIndex(o.fault) });
+    steps.push({ event: c, inputs: m.column, state: m.state, outputs: m.outputs, fault: faultIndex(o.fault) });
   }
   return { name, steps };
 }
@@ -96,7 +99,7 @@ export function buildVectors(t: FlowTable, reach: Reach = computeReach(t)): Test
   const powerUpVectors: StepVector[] = [];
   for (let c = 0; c < cols; c++) {
     const o = powerUp(rt, c);
-    powerUpVectors.push({ inputs: c, state: o.next.state, outputs: o.next.outputs, fault: faultIndex(o.fault) });
+    powerUpVectors.push({ event: c, inputs: c, state: o.next.state, outputs: o.next.outputs, fault: faultIndex(o.fault) });
   }
 
   const tour = buildTour(t, reach);

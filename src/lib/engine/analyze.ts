@@ -21,6 +21,12 @@ import {
 } from './findings';
 import { computeReach, grayColumns, grayRank, settleCells, type Reach } from './reachability';
 
+// module-local copies: imported bindings can compile to getter calls, which hot loops should not pay for
+const L_NONE: number = NONE;
+const L_SETTLE_OK: number = SETTLE_OK;
+const L_SETTLE_OSCILLATION: number = SETTLE_OSCILLATION;
+const L_SETTLE_UNSPECIFIED: number = SETTLE_UNSPECIFIED;
+
 /** How power-up went in one column. */
 export interface PowerUpResult {
   inputs: string;
@@ -81,7 +87,7 @@ export function traceSettle(t: FlowTable, state: number, column: number, start?:
     const nx = t.next[cell]!;
     seen.set(s, order.length);
     order.push(s);
-    if (nx === NONE) {
+    if (nx === L_NONE) {
       steps.push({ state: t.states[s]!, inputs: key, kind: 'unspecified', outputs: cellBits(t, cell) });
       return { steps, end: 'unspecified', state: s };
     }
@@ -126,6 +132,10 @@ class CodeList {
     if (this.total < this.limit) this.listed.push({ code: this.code, severity: SEVERITY_OF[this.code], ...build() });
     this.total++;
   }
+  /** Counts one finding past the cap without building it. */
+  skip(): void {
+    this.total++;
+  }
 }
 
 /** Analyzes a table: stable and reachable total states, power-up, and sorted findings. */
@@ -141,7 +151,7 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
   const m = t.outputs.length;
   const ns = t.states.length;
   const cols = reach.cells.columns;
-  const { term, fault, firstCare, firstValue, once, twice, risk } = reach.cells;
+  const { term, fault, state: settled, firstCare, firstValue, once, twice, risk } = reach.cells;
   const next = t.next;
   const outCare = t.outCare;
   const outValue = t.outValue;
@@ -170,9 +180,10 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       const c = gray[g]!;
       if (next[base + c] !== s) continue;
       any = true;
-      stable.push({ state: names[s]!, inputs: keys[c]! });
+      const ref: CellRef = { state: names[s]!, inputs: keys[c]! };
+      stable.push(ref);
       if (reach.reachStable[base + c]) {
-        reachableStable.push({ state: names[s]!, inputs: keys[c]! });
+        reachableStable.push(ref);
         ordered.push(base + c);
       }
     }
@@ -189,7 +200,7 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
     const place = term[e]!;
     if (hits[place] === 0) {
       source[place] = src;
-      (fault[e] === SETTLE_UNSPECIFIED ? unspecCells : oscCells).push(place);
+      (fault[e] === L_SETTLE_UNSPECIFIED ? unspecCells : oscCells).push(place);
     }
     hits[place] = hits[place]! + 1;
   };
@@ -201,9 +212,9 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
     const cell = t.reset * cols + c;
     const tr = traceSettle(t, t.reset, c);
     const f = fault[cell]!;
-    powerUp.push({ inputs: keys[c]!, result: tr.end, state: f === SETTLE_OK ? names[term[cell]! >> n]! : null, path: tr.steps });
-    if (f === SETTLE_OK) continue;
-    if (f === SETTLE_OSCILLATION) noteFailure(cell, -2 - c);
+    powerUp.push({ inputs: keys[c]!, result: tr.end, state: f === L_SETTLE_OK ? names[term[cell]! >> n]! : null, path: tr.steps });
+    if (f === L_SETTLE_OK) continue;
+    if (f === L_SETTLE_OSCILLATION) noteFailure(cell, -2 - c);
     else {
       const u = term[cell]! >> n;
       powerUpUnspec.add(() => ({
@@ -231,25 +242,25 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       const c2 = c ^ (1 << k);
       const e = base + c2;
       const f = fault[e]!;
-      if (f !== SETTLE_OK) {
-        via[k] = NONE;
+      if (f !== L_SETTLE_OK) {
+        via[k] = L_NONE;
         noteFailure(e, x * n + k);
         continue;
       }
-      via[k] = term[e]! >> n;
+      via[k] = settled[e]!;
       if (m === 0) continue;
       const fc = firstCare[e]!;
       const fv = firstValue[e]!;
       const onceE = once[e]!;
       const g = (twice[e]! | (care0 & fc & (val0 ^ fv) & onceE)) >>> 0;
       if (g !== 0) {
-        for (let o = 0; o < m; o++) if ((g >>> o) & 1) glitches.add(() => describeGlitch(t, s, c, k, o));
+        for (let o = 0; o < m; o++) if ((g >>> o) & 1) glitches.open ? glitches.add(() => describeGlitch(t, s, c, k, o)) : glitches.skip();
       }
       // same rule as riskyEntry, inlined
       const entry = next[e] !== s ? ~outCare[e]! & fc & (~care0 | ~(val0 ^ fv)) : 0;
       const h = ((risk[e]! | entry) & ~g) >>> 0;
       if (h !== 0) {
-        for (let o = 0; o < m; o++) if ((h >>> o) & 1) hazards.add(() => describeHazard(t, s, c, k, o));
+        for (let o = 0; o < m; o++) if ((h >>> o) & 1) hazards.open ? hazards.add(() => describeHazard(t, s, c, k, o)) : hazards.skip();
       }
     }
     for (let a = 0; a < n; a++) {
@@ -258,13 +269,10 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
         const va = via[a]!;
         const vb = via[b]!;
         const direct = base + target;
-        const sd = fault[direct] === SETTLE_OK ? term[direct]! >> n : NONE;
-        if (sd !== NONE && va !== NONE && vb !== NONE) {
-          const ca = (va << n) + target;
-          const cb = (vb << n) + target;
-          if (fault[ca] === SETTLE_OK && fault[cb] === SETTLE_OK && term[ca]! >> n === sd && term[cb]! >> n === sd) continue;
-        }
-        doubles.add(() => describeDoubleChange(t, s, c, a, b));
+        const sd = settled[direct]!;
+        if (sd !== L_NONE && va !== L_NONE && vb !== L_NONE && settled[(va << n) | target] === sd && settled[(vb << n) | target] === sd) continue;
+        if (doubles.open) doubles.add(() => describeDoubleChange(t, s, c, a, b));
+        else doubles.skip();
       }
     }
   }
@@ -400,7 +408,7 @@ function valuesAlong(t: FlowTable, s: number, c: number, c2: number, o: number):
     cells.push(cell);
     if ((t.outCare[cell]! >>> o) & 1) values.push((t.outValue[cell]! >>> o) & 1);
     const nx = t.next[cell]!;
-    if (nx === x || nx === NONE || seen.has(nx)) return { values, cells, end: x };
+    if (nx === x || nx === L_NONE || seen.has(nx)) return { values, cells, end: x };
     seen.add(x);
     x = nx;
   }

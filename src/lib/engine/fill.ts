@@ -27,6 +27,10 @@ import { cloneTable, columnToKey, NONE, type FlowTable } from './model';
 import { SETTLE_OK } from './settle';
 import { computeReach, grayColumns, settleCells } from './reachability';
 
+// module-local copies: imported bindings can compile to getter calls, which hot loops should not pay for
+const L_NONE: number = NONE;
+const L_SETTLE_OK: number = SETTLE_OK;
+
 /** One don't-care output that fill gave a value. */
 export interface FillAssignment {
   state: string;
@@ -69,10 +73,10 @@ export function fillOutputs(t: FlowTable): FillResult {
 
   // risky steps inside settle paths: y -> x with x transient, open, heading to the value y has
   for (let y = 0; y < size; y++) {
-    if (!(reach.onPath[y]! & 2) || fault[y] !== SETTLE_OK) continue;
+    if (!(reach.onPath[y]! & 2) || fault[y] !== L_SETTLE_OK) continue;
     const sy = (y / cols) | 0;
     const nx = next[y]!;
-    if (nx === sy || nx === NONE) continue;
+    if (nx === sy || nx === L_NONE) continue;
     const c = y - sy * cols;
     const x = nx * cols + c;
     if (next[x] === nx) continue;
@@ -91,7 +95,7 @@ export function fillOutputs(t: FlowTable): FillResult {
     for (let k = 0; k < n; k++) {
       const c2 = c ^ (1 << k);
       const e = s * cols + c2;
-      if (fault[e] !== SETTLE_OK) continue;
+      if (fault[e] !== L_SETTLE_OK) continue;
       const fc = firstCare[e]!;
       const fv = firstValue[e]!;
       const g = (twice[e]! | (care0 & fc & (val0 ^ fv) & once[e]!)) >>> 0;
@@ -140,7 +144,7 @@ function specifiedValues(t: FlowTable, s: number, c: number, c2: number, o: numb
     const cell = x * cols + c2;
     at(cell);
     const nx = t.next[cell]!;
-    if (nx === x || nx === NONE) break;
+    if (nx === x || nx === L_NONE) break;
     x = nx;
   }
   return values;

@@ -9,3 +9,4 @@ export * from './analyze';
 export * from './simulate';
 export * from './fill';
 export * from './diff';
+export * from './formats/index';

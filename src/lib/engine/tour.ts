@@ -11,7 +11,6 @@
  * the current state, a new segment starts from another power-up column (columns in index order).
  */
 import { columnToKey, type FlowTable } from './model';
-import { SETTLE_OK } from './settle';
 import { computeReach, type Reach } from './reachability';
 
 /** One power-up and the snapshots that follow it (column keys). */
@@ -32,9 +31,9 @@ export interface Tour {
 /** Builds a tour covering every single-input change of every reachable stable total state. */
 export function buildTour(t: FlowTable, reach: Reach = computeReach(t)): Tour {
   const n = t.inputs.length;
-  const { term, fault, columns: cols } = reach.cells;
+  const { state: settled, columns: cols } = reach.cells;
   const full = (1 << n) - 1;
-  const size = term.length;
+  const size = settled.length;
   const done = new Uint16Array(size);
   const total = reach.stableList.length * n;
   let covers = 0;
@@ -55,7 +54,8 @@ export function buildTour(t: FlowTable, reach: Reach = computeReach(t)): Tour {
   const targetOf = (x: number, k: number): number => {
     const c = x % cols;
     const e = x - c + (c ^ (1 << k));
-    return fault[e] === SETTLE_OK ? term[e]! : -1;
+    const st = settled[e]!;
+    return st < 0 ? -1 : st * cols + (c ^ (1 << k));
   };
 
   const stamp = new Int32Array(size);

@@ -12,6 +12,7 @@ import { recordAudit } from './audit';
 import type { Db } from './db';
 import { ApiError, fail } from './errors';
 import { newId } from './ids';
+import { supersedePendingReviews } from './review-states';
 import { controllers, revisions, users, type FindingsSummary, type RevisionRow } from './schema';
 
 /** Largest source accepted for a revision or an upload, in bytes (the engine's own cap). */
@@ -117,12 +118,14 @@ export async function createRevisionFromTable(db: Db, input: Omit<CreateRevision
       })
       .returning();
     await tx.update(controllers).set({ headRevision: number, updatedAt: sql`now()` }).where(eq(controllers.id, c.id));
+    // A newer revision supersedes the pending reviews of older ones (issue 6).
+    const superseded = await supersedePendingReviews(tx as unknown as Db, c.id, number);
     await recordAudit(tx as unknown as Db, {
       workspaceId: input.workspaceId ?? c.workspaceId,
       actorUserId: input.author,
       action: 'revision.created',
       target: `${c.slug}@r${number}`,
-      detail: { base, findings: canon.findings },
+      detail: { base, findings: canon.findings, ...(superseded > 0 ? { supersededReviews: superseded } : {}) },
     });
     return inserted!;
   });

@@ -164,12 +164,13 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
   for (const rec of records) {
     const first = rec.fields[0]!.text;
     if (rec.fields.every((f) => f.text.trim() === '')) continue;
+    // after the header row every row is a state row, whatever its name
+    if (headerRec) {
+      rowRecs.push(rec);
+      continue;
+    }
     if (first === '#') continue;
     if (first.startsWith('#')) {
-      if (headerRec) {
-        at(rec, 0, `metadata row "${first}" after the header row`, 'put every # row before the `state,...` header row');
-        continue;
-      }
       if (!METADATA.includes(first)) {
         at(rec, 0, `unknown metadata row "${first}"`, nearestName(first, METADATA) ?? `known rows: ${METADATA.join(' ')}; a row starting with "#" alone is a comment`);
         continue;
@@ -186,15 +187,11 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
       meta.set(first, rec);
       continue;
     }
-    if (!headerRec) {
-      if (first !== 'state') {
-        at(rec, 0, `expected the header row "state,KEY,KEY,...", found "${first}"`, 'the header row starts with the word state, then lists every column key once');
-        return issues.throwIfAny() as never;
-      }
-      headerRec = rec;
-      continue;
+    if (first !== 'state') {
+      at(rec, 0, `expected the header row "state,KEY,KEY,...", found "${first}"`, 'the header row starts with the word state, then lists every column key once');
+      return issues.throwIfAny() as never;
     }
-    rowRecs.push(rec);
+    headerRec = rec;
   }
 
   // metadata values: trailing empty fields (added by spreadsheets) are dropped

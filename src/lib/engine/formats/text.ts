@@ -167,10 +167,18 @@ function parseLines(lines: string[], issues: IssueList): FlowTable {
   let sectionStmt: Statement | undefined;
   const rows: Token[][] = [];
   let firstSeen = false;
+  const broken = new Set<string>();
 
   for (let li = 0; li < lines.length; li++) {
     const tokens = tokenizeLine(lines[li]!, li + 1, issues);
-    if (!tokens || tokens.length === 0) continue;
+    if (!tokens) {
+      // a line with a lexical error still counts as the statement it starts with
+      const word = /^[ \t]*([^ \t"#]+)/.exec(lines[li]!)?.[1];
+      if (word && isKeyword(word)) broken.add(word);
+      firstSeen = true;
+      continue;
+    }
+    if (tokens.length === 0) continue;
     const head = tokens[0]!;
     const isStatement = !head.quoted && isKeyword(head.value);
     if (!firstSeen) {
@@ -209,8 +217,11 @@ function parseLines(lines: string[], issues: IssueList): FlowTable {
     // a header statement after the table section ends the section
     if (section !== 'none') section = 'none';
   }
-  if (!firstSeen) issues.add(1, 1, 'the source is empty', 'start with `flow NAME`, then `inputs`, `outputs`, `reset` and a `grid`');
-  return resolve(header, scenarioStmts, sectionStmt, rows, issues);
+  if (!firstSeen) {
+    issues.add(1, 1, 'the source is empty', 'start with `flow NAME`, then `inputs`, `outputs`, `reset` and a `grid`');
+    issues.throwIfAny();
+  }
+  return resolve(header, scenarioStmts, sectionStmt, rows, broken, issues);
 }
 
 function expectArgs(stmt: Statement, count: number, usage: string, issues: IssueList): boolean {
@@ -243,13 +254,14 @@ function readNameList(stmt: Statement, what: string, limit: number, issues: Issu
   return names;
 }
 
-function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sectionStmt: Statement | undefined, rows: Token[][], issues: IssueList): FlowTable {
+function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sectionStmt: Statement | undefined, rows: Token[][], broken: Set<string>, issues: IssueList): FlowTable {
   const at1 = { line: 1, col: 1 };
   const flowStmt = header.get('flow');
   const anchor = flowStmt?.keyword ?? at1;
   let name: string | null = null;
-  if (!flowStmt) issues.add(1, 1, 'missing `flow NAME`', 'the first statement names the table, e.g. `flow door_interlock`');
-  else if (expectArgs(flowStmt, 1, 'flow NAME', issues)) name = nameOf(flowStmt.args[0]!, 'table name', issues);
+  if (!flowStmt) {
+    if (!broken.has('flow')) issues.add(1, 1, 'missing `flow NAME`', 'the first statement names the table, e.g. `flow door_interlock`');
+  } else if (expectArgs(flowStmt, 1, 'flow NAME', issues)) name = nameOf(flowStmt.args[0]!, 'table name', issues);
 
   let description: string | undefined;
   const about = header.get('about');
@@ -263,8 +275,9 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
 
   const inputsStmt = header.get('inputs');
   let inputs: (string | null)[] = [];
-  if (!inputsStmt) issues.add(anchor.line, anchor.col, 'missing `inputs` statement', 'list the input names in order, e.g. `inputs door_closed key`; character k of a column key is input k');
-  else inputs = readNameList(inputsStmt, 'input', LIMITS.inputs, issues);
+  if (!inputsStmt) {
+    if (!broken.has('inputs')) issues.add(anchor.line, anchor.col, 'missing `inputs` statement', 'list the input names in order, e.g. `inputs door_closed key`; character k of a column key is input k');
+  } else inputs = readNameList(inputsStmt, 'input', LIMITS.inputs, issues);
   const outputsStmt = header.get('outputs');
   const outputs = outputsStmt ? readNameList(outputsStmt, 'output', LIMITS.outputs, issues) : [];
   const shapeOk = inputsStmt !== undefined && inputs.length <= LIMITS.inputs && outputs.length <= LIMITS.outputs;
@@ -329,6 +342,10 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
   } else {
     issues.add(anchor.line, anchor.col, 'the table has no states', 'add a `grid` section, or a `states` line and a `cells` section');
   }
+  if (states.length === 0 && (statesStmt || sectionStmt?.keyword.value === 'grid')) {
+    const at = statesStmt?.keyword ?? sectionStmt!.keyword;
+    if (!statesStmt) issues.add(at.line, at.col, 'the grid has no rows', 'write one row per state: NAME CELL CELL ...');
+  }
   const stateIndex = new Map<string, number>();
   states.forEach((s, i) => {
     if (s === null) return;
@@ -367,8 +384,9 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
 
   let reset: number | undefined;
   const resetStmt = header.get('reset');
-  if (!resetStmt) issues.add(anchor.line, anchor.col, 'missing `reset STATE`', 'name the state the controller starts from, e.g. `reset idle`');
-  else if (expectArgs(resetStmt, 1, 'reset STATE', issues)) {
+  if (!resetStmt) {
+    if (!broken.has('reset')) issues.add(anchor.line, anchor.col, 'missing `reset STATE`', 'name the state the controller starts from, e.g. `reset idle`');
+  } else if (expectArgs(resetStmt, 1, 'reset STATE', issues)) {
     const tok = resetStmt.args[0]!;
     const s = nameOf(tok, 'state', issues);
     if (s !== null) {
