@@ -83,7 +83,7 @@ function sumArrays(t: FlowTable): number {
   return sum;
 }
 
-const fmt = (ms: number) => (ms < 1 ? `${ms.toFixed(3)} ms` : ms < 100 ? `${ms.toFixed(1)} ms` : `${ms.toFixed(0)} ms`);
+const formatMs = (ms: number) => (ms < 1 ? `${ms.toFixed(3)} ms` : ms < 100 ? `${ms.toFixed(1)} ms` : `${ms.toFixed(0)} ms`);
 
 /** Runs the analysis benchmark rows. */
 export async function run(): Promise<BenchRow[]> {
@@ -104,7 +104,7 @@ export async function run(): Promise<BenchRow[]> {
     rows.push({
       group: 'analysis',
       case: name,
-      value: `${fmt(ms)}; plain pass ${fmt(plain)}; ratio ${(ms / Math.max(plain, 1e-6)).toFixed(0)}x`,
+      value: `${formatMs(ms)}; plain pass ${formatMs(plain)}; ratio ${(ms / Math.max(plain, 1e-6)).toFixed(0)}x`,
       target: `< ${c.target} ms`,
       ok: ms < c.target,
     });
@@ -115,11 +115,11 @@ export async function run(): Promise<BenchRow[]> {
     });
     if (c.states <= 256) {
       const fillMs = timeMedian(() => fillOutputs(t), 5, 1);
-      rows.push({ group: 'analysis', case: `  fill outputs, ${c.states} states`, value: fmt(fillMs) });
+      rows.push({ group: 'analysis', case: `  fill outputs, ${c.states} states`, value: formatMs(fillMs) });
       const tourMs = timeMedian(() => buildTour(t), 3, 1);
       const tour = buildTour(t);
       const steps = tour.segments.reduce((n, s) => n + s.steps.length, 0);
-      rows.push({ group: 'analysis', case: `  tour, ${c.states} states`, value: `${fmt(tourMs)}; ${steps} steps for ${tour.total} edges` });
+      rows.push({ group: 'analysis', case: `  tour, ${c.states} states`, value: `${formatMs(tourMs)}; ${steps} steps for ${tour.total} edges` });
     }
   }
   return rows;

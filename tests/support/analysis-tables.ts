@@ -8,6 +8,7 @@ import fc from 'fast-check';
 import { columnToKey, countColumns, createTable, NONE, setCellBits, type FlowTable } from '../../src/lib/engine/model';
 import { settle } from '../../src/lib/engine/settle';
 import { parseKiss2 } from '../../src/lib/engine/formats/kiss2';
+import { arbitraryTable } from './arbitrary-table';
 
 const CHECK_DATA = new URL('../../../shared/check-data/kiss2/', import.meta.url);
 
@@ -79,6 +80,18 @@ function buildTable(s: TableShape, reset: number, spec: [number, string, number]
     if (t.next[cell] !== NONE) setCellBits(t, cell, bits);
   });
   return t;
+}
+
+/**
+ * The tables the analysis properties run on: half from the shared generator (arbitrary-table.ts:
+ * hostile names, sparse and dense tables), half from arbitraryFlowTable (structured towards
+ * reachable stable states, transient chains and loops, and tables without inputs).
+ */
+export function arbitraryAnalysisTable(max: Partial<TableShape> = {}): fc.Arbitrary<FlowTable> {
+  return fc.oneof(
+    arbitraryTable({ minInputs: 1, maxInputs: Math.max(1, max.inputs ?? 3), maxOutputs: max.outputs ?? 3, maxStates: max.states ?? 6 }),
+    arbitraryFlowTable(max),
+  );
 }
 
 /** What the reference computes: everything keyed by names. */

@@ -70,9 +70,20 @@ export const HOSTILE_NAMES = [
   'x'.repeat(64),
 ] as const;
 
+// built once: arbitraries made inside `chain` are rebuilt for every sample, and regex-based ones are slow to build
 const PLAIN_NAME = fc.stringMatching(/^[a-z][a-z0-9_]{0,7}$/);
+const PREFIX = fc.option(fc.stringMatching(/^[a-z][a-z0-9_]{0,9}$/), { nil: undefined });
+
+const NAME_ARBITRARIES = new Map<string, fc.Arbitrary<string>>();
 
 function nameArbitrary(hostile: boolean, forState: boolean): fc.Arbitrary<string> {
+  const key = `${hostile}${forState}`;
+  let a = NAME_ARBITRARIES.get(key);
+  if (!a) NAME_ARBITRARIES.set(key, (a = buildNameArbitrary(hostile, forState)));
+  return a;
+}
+
+function buildNameArbitrary(hostile: boolean, forState: boolean): fc.Arbitrary<string> {
   if (!hostile) return PLAIN_NAME;
   const wild = fc
     .string({ minLength: 1, maxLength: 12, unit: 'grapheme' })
@@ -116,7 +127,7 @@ export function arbitraryTable(opts: ArbitraryTableOptions = {}): fc.Arbitrary<F
         cells: fc.array(cell, { minLength: s * cols, maxLength: s * cols }),
         description: extras ? fc.option(fc.string({ maxLength: 40 }), { nil: undefined }) : fc.constant(undefined),
         policy: extras ? fc.constantFrom(...DOUBLE_CHANGE_POLICIES) : fc.constant('guarded' as const),
-        prefix: extras ? fc.option(fc.stringMatching(/^[a-z][a-z0-9_]{0,9}$/), { nil: undefined }) : fc.constant(undefined),
+        prefix: extras ? PREFIX : fc.constant(undefined),
         scenarios: extras
           ? fc.uniqueArray(fc.record({ name: fc.string({ minLength: 1, maxLength: 20 }), inputs: fc.array(key, { minLength: 1, maxLength: 5 }) }), {
               maxLength: 2,

@@ -19,7 +19,7 @@ function AuditTable({ workspace, initial }: Props) {
   const needle = filter.trim().toLowerCase();
   const shown = needle
     ? items.filter((i) =>
-        [i.action, i.target, i.actorName ?? '', i.actorEmail ?? '', describeDetail(i.detail)].some((s) => s.toLowerCase().includes(needle)),
+        [i.action, i.target, i.targetName ?? '', i.actorName ?? '', i.actorEmail ?? '', describeDetail(i.detail)].some((s) => s.toLowerCase().includes(needle)),
       )
     : items;
   return (
@@ -59,7 +59,7 @@ function AuditTable({ workspace, initial }: Props) {
                   {i.actorName ?? (i.actorKeyId ? <span>CI key <code>{i.actorKeyId.slice(0, 6)}</code></span> : <span className="text-ink-muted">—</span>)}
                 </td>
                 <td><code className="text-xs">{i.action}</code></td>
-                <td className="text-sm"><code className="text-xs">{i.target}</code></td>
+                <td className="text-sm">{i.targetName ? <span title={i.target}>{i.targetName}</span> : <code className="text-xs">{i.target}</code>}</td>
                 <td className="text-sm text-ink-muted">{describeDetail(i.detail)}</td>
               </tr>
             ))}

@@ -251,18 +251,23 @@ export default function FlowGrid(props: FlowGridProps) {
           {rowItems.map((s) => (
             <div key={s} role="row" aria-rowindex={s + 2} className="flex border-b border-line" style={{ height: ROW_H }}>
               <div role="rowheader" className="sticky left-0 z-10 bg-surface border-r border-line-strong flex items-center gap-1 px-1" style={{ width: HEAD_W, minWidth: HEAD_W }}>
-                <button
-                  type="button"
-                  tabIndex={-1}
-                  className="truncate text-left flex-1 px-1 py-0.5 rounded hover:bg-raised font-medium"
-                  title={`${t.states[s]}${s === t.reset ? ' (reset state)' : ''}${readOnly ? '' : ': click to rename, move or delete'}`}
-                  onClick={() => !readOnly && setMenu({ kind: 'state', index: s })}
-                  aria-label={`state ${t.states[s]}${s === t.reset ? ', reset state' : ''}`}
-                  disabled={readOnly}
-                  data-state-name={t.states[s]}
-                >
-                  {t.states[s]}
-                </button>
+                {readOnly ? (
+                  <span className="truncate flex-1 px-1 py-0.5 font-medium" title={`${t.states[s]}${s === t.reset ? ' (reset state)' : ''}`} data-state-name={t.states[s]}>
+                    {t.states[s]}
+                  </span>
+                ) : (
+                  <button
+                    type="button"
+                    tabIndex={-1}
+                    className="truncate text-left flex-1 px-1 py-0.5 rounded hover:bg-raised font-medium"
+                    title={`${t.states[s]}${s === t.reset ? ' (reset state)' : ''}: click to rename, move or delete`}
+                    onClick={() => setMenu({ kind: 'state', index: s })}
+                    aria-label={`state ${t.states[s]}${s === t.reset ? ', reset state' : ''}: edit`}
+                    data-state-name={t.states[s]}
+                  >
+                    {t.states[s]}
+                  </button>
+                )}
                 {s === t.reset && (
                   <span className="q-badge text-[0.65rem] px-1" title="reset state: power-up settles from here">
                     reset
@@ -519,19 +524,24 @@ function StructureBar(props: {
     <div className="flex flex-wrap items-center gap-1.5" role="group" aria-label={`${kind}s`}>
       <span className="text-xs font-semibold uppercase tracking-wide text-ink-muted w-16">{kind}s</span>
       {names.length === 0 && <span className="text-xs text-ink-muted">none</span>}
-      {names.map((n, i) => (
-        <button
-          key={`${n}-${i}`}
-          type="button"
-          className="q-badge font-mono hover:bg-surface"
-          disabled={readOnly}
-          onClick={() => setMenu({ kind, index: i })}
-          title={readOnly ? `${kind} ${i}` : `${kind} ${n}: rename, move or delete`}
-          aria-label={`${kind} ${n}${readOnly ? '' : ', edit'}`}
-        >
-          <span className="text-ink-muted">{kind === 'input' ? `x${i}` : `y${i}`}</span> {n}
-        </button>
-      ))}
+      {names.map((n, i) =>
+        readOnly ? (
+          <span key={`${n}-${i}`} className="q-badge font-mono">
+            <span className="text-ink-muted">{kind === 'input' ? `x${i}` : `y${i}`}</span> {n}
+          </span>
+        ) : (
+          <button
+            key={`${n}-${i}`}
+            type="button"
+            className="q-badge font-mono hover:bg-surface"
+            onClick={() => setMenu({ kind, index: i })}
+            title={`${kind} ${n}: rename, move or delete`}
+            aria-label={`${kind} ${n}, edit`}
+          >
+            <span className="text-ink-muted">{kind === 'input' ? `x${i}` : `y${i}`}</span> {n}
+          </button>
+        ),
+      )}
       {!readOnly && (
         <button
           type="button"

@@ -29,6 +29,23 @@ export default function SettingsPanel({ table: t, readOnly, onEdit }: SettingsPa
   useEffect(() => setName(t.name), [t.name]);
   useEffect(() => setPrefix(t.settings.prefix ?? ''), [t.settings.prefix]);
   useEffect(() => setAbout(t.description ?? ''), [t.description]);
+  if (readOnly)
+    return (
+      <dl className="grid grid-cols-[12rem_1fr] gap-x-4 gap-y-2 text-sm max-w-3xl" data-testid="settings-panel">
+        <dt className="font-medium">Table name</dt>
+        <dd className="font-mono">{t.name}</dd>
+        <dt className="font-medium">Code prefix / crate name</dt>
+        <dd className="font-mono">{t.settings.prefix ?? '(derived from the table name)'}</dd>
+        <dt className="font-medium">Double-change policy</dt>
+        <dd>
+          <strong className="font-mono">{t.settings.doubleChange}</strong> — {POLICY_TEXT[t.settings.doubleChange]}
+        </dd>
+        <dt className="font-medium">Reset state</dt>
+        <dd className="font-mono">{t.states[t.reset]}</dd>
+        <dt className="font-medium">Description</dt>
+        <dd>{t.description ?? '—'}</dd>
+      </dl>
+    );
   const nameProblem = name === t.name ? null : checkName(name, [], 'table');
   const prefixCheck = prefix === '' ? null : settingsSchema.shape.prefix.safeParse(prefix);
   const prefixProblem = prefixCheck && !prefixCheck.success ? (prefixCheck.error.issues[0]?.message ?? 'invalid prefix') : null;

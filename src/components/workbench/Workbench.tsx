@@ -18,7 +18,6 @@ import { parseText } from '../../lib/engine/formats/text';
 import { countColumns, createTable, keyToColumn, type FlowTable } from '../../lib/engine/model';
 import FlowGrid, { type GridCell, type GridPath } from './FlowGrid';
 import FindingsPanel from './FindingsPanel';
-import StateDiagram from './StateDiagram';
 import Simulator from './Simulator';
 import ReducePanel from './ReducePanel';
 import FillPanel from './FillPanel';
@@ -27,6 +26,7 @@ import './workbench.css';
 
 const SourceEditor = lazy(() => import('./SourceEditor'));
 const GeneratePanel = lazy(() => import('./GeneratePanel'));
+const StateDiagram = lazy(() => import('./StateDiagram'));
 
 /** The views of the workbench, in tab order (Alt+1 … Alt+8). */
 export const VIEWS = [
@@ -422,7 +422,9 @@ function WorkbenchInner({ workspace, controller, revision, head, canEdit, role }
           )}
           {view === 'map' && (
             <div role="tabpanel" id="view-map" aria-labelledby="tab-map">
-              <StateDiagram table={t} {...(reachable ? { reachable } : {})} path={mapPath} onSelectState={(s) => setSelected({ state: s, column: selected?.column ?? 0 })} />
+              <Suspense fallback={<p className="text-sm text-ink-muted">Loading the map…</p>}>
+                <StateDiagram table={t} {...(reachable ? { reachable } : {})} path={mapPath} onSelectState={(s) => setSelected({ state: s, column: selected?.column ?? 0 })} />
+              </Suspense>
             </div>
           )}
           <div role="tabpanel" id="view-run" aria-labelledby="tab-run" hidden={view !== 'run'}>

@@ -18,6 +18,7 @@ export interface AuditItemView {
   actorName: string | null;
   actorEmail: string | null;
   actorKeyId: string | null;
+  targetName: string | null;
 }
 
 /** One page of the audit log. */

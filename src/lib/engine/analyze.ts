@@ -19,7 +19,7 @@ import {
   type PathStep,
   type Severity,
 } from './findings';
-import { computeReach, grayColumns, grayRank, settleCells, type Reach } from './reachability';
+import { computeReach, listGrayColumns, rankGrayColumns, settleCells, type Reach } from './reachability';
 
 // module-local copies: imported bindings can compile to getter calls, which hot loops should not pay for
 const L_NONE: number = NONE;
@@ -48,7 +48,7 @@ export interface Analysis {
   powerUp: PowerUpResult[];
   /** Sorted by severity, then code, then place (state order, grid column order, input order). */
   findings: Finding[];
-  /** Problems per severity, including those past the per-code cap; the truncation notes are not counted. */
+  /** Problems per severity, including those past the per-code cap; `findings-truncated` notes are not counted. */
   counts: Record<Severity, number>;
 }
 
@@ -78,7 +78,7 @@ export function traceSettle(t: FlowTable, state: number, column: number, start?:
   const key = columnToKey(column, t.inputs.length);
   const steps: PathStep[] = [];
   const withStart = start !== undefined;
-  if (start) steps.push(stepAt(t, start.state, start.column, 'start'));
+  if (start) steps.push(makeStep(t, start.state, start.column, 'start'));
   const order: number[] = [];
   const seen = new Map<number, number>();
   let s = state;
@@ -105,7 +105,7 @@ export function traceSettle(t: FlowTable, state: number, column: number, start?:
   }
 }
 
-function stepAt(t: FlowTable, state: number, column: number, kind: PathStep['kind']): PathStep {
+function makeStep(t: FlowTable, state: number, column: number, kind: PathStep['kind']): PathStep {
   const cell = state * countColumns(t.inputs.length) + column;
   return { state: t.states[state]!, inputs: columnToKey(column, t.inputs.length), kind, outputs: cellBits(t, cell) };
 }
@@ -158,8 +158,8 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
   const names = t.states;
   const keys: string[] = [];
   for (let c = 0; c < cols; c++) keys.push(columnToKey(c, n));
-  const gray = grayColumns(n);
-  const rank = grayRank(n);
+  const gray = listGrayColumns(n);
+  const rank = rankGrayColumns(n);
   const lists = new Map<FindingCode, CodeList>();
   const list = (code: FindingCode): CodeList => {
     let l = lists.get(code);
@@ -256,7 +256,7 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       if (g !== 0) {
         for (let o = 0; o < m; o++) if ((g >>> o) & 1) glitches.open ? glitches.add(() => describeGlitch(t, s, c, k, o)) : glitches.skip();
       }
-      // same rule as riskyEntry, inlined
+      // same rule as computeEntryRisk, inlined
       const entry = next[e] !== s ? ~outCare[e]! & fc & (~care0 | ~(val0 ^ fv)) : 0;
       const h = ((risk[e]! | entry) & ~g) >>> 0;
       if (h !== 0) {
@@ -359,7 +359,8 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       const omitted = l.total - l.listed.length;
       findings.push({
         code: 'findings-truncated',
-        severity: SEVERITY_OF['findings-truncated'],
+        // the note takes the severity of the list it closes, so the whole list stays sorted by severity
+        severity: SEVERITY_OF[code],
         of: code,
         omitted,
         message: `${omitted} more ${code} finding${omitted === 1 ? ' is' : 's are'} not listed.`,
@@ -395,7 +396,7 @@ function suggestCell(t: FlowTable, state: number, column: number, key: string): 
 }
 
 /** Specified values of output `o` along an SIC path (start cell, then the settle path), don't-cares dropped. */
-function valuesAlong(t: FlowTable, s: number, c: number, c2: number, o: number): { values: number[]; cells: number[]; end: number } {
+function listValuesAlong(t: FlowTable, s: number, c: number, c2: number, o: number): { values: number[]; cells: number[]; end: number } {
   const cols = countColumns(t.inputs.length);
   const values: number[] = [];
   const cells: number[] = [];
@@ -417,7 +418,7 @@ function valuesAlong(t: FlowTable, s: number, c: number, c2: number, o: number):
 function describeGlitch(t: FlowTable, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
   const n = t.inputs.length;
   const c2 = c ^ (1 << k);
-  const { values, end } = valuesAlong(t, s, c, c2, o);
+  const { values, end } = listValuesAlong(t, s, c, c2, o);
   const tr = traceSettle(t, s, c2, { state: s, column: c });
   return {
     state: t.states[s]!,
@@ -434,7 +435,7 @@ function describeHazard(t: FlowTable, s: number, c: number, k: number, o: number
   const cols = countColumns(n);
   const c2 = c ^ (1 << k);
   const key2 = columnToKey(c2, n);
-  const { cells } = valuesAlong(t, s, c, c2, o);
+  const { cells } = listValuesAlong(t, s, c, c2, o);
   // replay the risk rule along the path to name the open cells and the values fill would give them
   const filled: number[] = [];
   let after = -1;
@@ -445,20 +446,28 @@ function describeHazard(t: FlowTable, s: number, c: number, k: number, o: number
   }
   const start = s * cols + c;
   let before = (t.outCare[start]! >>> o) & 1 ? (t.outValue[start]! >>> o) & 1 : -1;
-  const parts: string[] = [];
+  const places: string[] = [];
+  const values: number[] = [];
   for (let i = 0; i < cells.length - 1; i++) {
     const cell = cells[i]!;
     const open = !((t.outCare[cell]! >>> o) & 1);
-    if (open && filled[i]! >= 0 && (before === -1 || before === filled[i])) parts.push(`${filled[i]} in (${t.states[(cell / cols) | 0]}, ${key2})`);
+    if (open && filled[i]! >= 0 && (before === -1 || before === filled[i])) {
+      places.push(`(${t.states[(cell / cols) | 0]}, ${key2})`);
+      values.push(filled[i]!);
+    }
     before = filled[i]!;
   }
+  const one = places.length === 1;
+  const sameValue = values.every((v) => v === values[0]);
   const tr = traceSettle(t, s, c2, { state: s, column: c });
   return {
     state: t.states[s]!,
     from: columnToKey(c, n),
     inputs: key2,
     output: t.outputs[o]!,
-    message: `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[k]} passes transient cells where ${t.outputs[o]} is a don't-care that could add a change; output fill would set it to ${listNames(parts)}.`,
+    message:
+      `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[k]} passes ${listNames(places)}, where ${t.outputs[o]} is a don't-care that could add a change; ` +
+      `output fill would set ${one ? 'it' : 'them'} to ${sameValue ? values[0] : listNames(values.map(String))}.`,
     path: tr.steps,
     fix: { action: 'fill-outputs', label: 'Fill don\'t-care outputs in transient cells' },
   };

@@ -25,7 +25,7 @@
  */
 import { cloneTable, columnToKey, NONE, type FlowTable } from './model';
 import { SETTLE_OK } from './settle';
-import { computeReach, grayColumns, settleCells } from './reachability';
+import { computeEntryRisk, computeReach, listGrayColumns, settleCells } from './reachability';
 
 // module-local copies: imported bindings can compile to getter calls, which hot loops should not pay for
 const L_NONE: number = NONE;
@@ -106,15 +106,14 @@ export function fillOutputs(t: FlowTable): FillResult {
           from: keys[c]!,
           inputs: keys[c2]!,
           output: t.outputs[o]!,
-          reason: `the specified values of ${t.outputs[o]} already go ${specifiedValues(t, s, c, c2, o).join(', ')} along this change, and fill never changes specified values`,
+          reason: `the specified values of ${t.outputs[o]} already go ${listSpecifiedValues(t, s, c, c2, o).join(', ')} along this change, and fill never changes specified values`,
         });
       }
-      if (next[e] === s) continue;
-      need[e] = (need[e]! | (~outCare[e]! & fc & (~care0 | ~(val0 ^ fv)))) >>> 0;
+      need[e] = (need[e]! | computeEntryRisk(t, cells, e, care0, val0)) >>> 0;
     }
   }
 
-  const gray = grayColumns(n);
+  const gray = listGrayColumns(n);
   for (let s = 0; s < t.states.length; s++) {
     for (let gi = 0; gi < cols; gi++) {
       const c = gray[gi]!;
@@ -132,7 +131,7 @@ export function fillOutputs(t: FlowTable): FillResult {
 }
 
 /** Specified values of output `o` from stable (s, c) along the settle path in column c2. */
-function specifiedValues(t: FlowTable, s: number, c: number, c2: number, o: number): number[] {
+function listSpecifiedValues(t: FlowTable, s: number, c: number, c2: number, o: number): number[] {
   const cols = 1 << t.inputs.length;
   const values: number[] = [];
   const at = (cell: number): void => {

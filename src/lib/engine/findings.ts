@@ -14,7 +14,8 @@ export type Severity = z.infer<typeof severitySchema>;
  * Finding codes in report order. The first seven are the engine contract. `output-hazard` is
  * ours: a single-input change whose specified outputs are fine, but where a don't-care in a
  * transient cell could add a change if realized badly (output fill removes it).
- * `findings-truncated` closes a list that hit the per-code cap.
+ * `findings-truncated` closes a list that hit the per-code cap; it takes that code's severity
+ * (SEVERITY_OF lists `info` for it only as a default).
  */
 export const FINDING_CODES = [
   'unspecified-transition',

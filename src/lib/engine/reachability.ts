@@ -24,7 +24,7 @@ const L_SETTLE_UNSPECIFIED: number = SETTLE_UNSPECIFIED;
  * `firstCare`/`firstValue`: whether some cell on the path specifies the output, and the first such
  * value (this is also the value a backward fill gives the cell); `once`/`twice`: the specified
  * values change at least once / at least twice along the path; `risk`: some don't-care transient
- * cell strictly after this one could add a change (see `riskyEntry`).
+ * cell strictly after this one could add a change (see `computeEntryRisk`).
  */
 export interface SettledCells {
   columns: number;
@@ -150,7 +150,7 @@ export function settleCells(t: FlowTable): SettledCells {
  * the value before it is open too). Zero when `e` is stable. Pair with `risk[e]` for the rest of
  * the path.
  */
-export function riskyEntry(t: FlowTable, sc: SettledCells, e: number, care0: number, val0: number): number {
+export function computeEntryRisk(t: FlowTable, sc: SettledCells, e: number, care0: number, val0: number): number {
   const stateOfE = (e / sc.columns) | 0;
   if (t.next[e] === stateOfE) return 0;
   return (~t.outCare[e]! & sc.firstCare[e]! & (~care0 | ~(val0 ^ sc.firstValue[e]!))) >>> 0;
@@ -239,7 +239,7 @@ export function computeReach(t: FlowTable, cells: SettledCells = settleCells(t))
 }
 
 /** Column indices in grid (Gray) order. */
-export function grayColumns(inputCount: number): Int32Array {
+export function listGrayColumns(inputCount: number): Int32Array {
   const keys = grayKeys(inputCount);
   const out = new Int32Array(keys.length);
   keys.forEach((k, i) => (out[i] = keyToColumn(k)));
@@ -247,8 +247,8 @@ export function grayColumns(inputCount: number): Int32Array {
 }
 
 /** Position of each column in grid (Gray) order. */
-export function grayRank(inputCount: number): Int32Array {
-  const order = grayColumns(inputCount);
+export function rankGrayColumns(inputCount: number): Int32Array {
+  const order = listGrayColumns(inputCount);
   const rank = new Int32Array(order.length);
   order.forEach((c, i) => (rank[c] = i));
   return rank;

@@ -73,7 +73,7 @@ function outputsToBits(outputs: number, count: number): string {
   return s;
 }
 
-function popcount(x: number): number {
+function countBits(x: number): number {
   let c = 0;
   for (; x; x &= x - 1) c++;
   return c;
@@ -103,25 +103,25 @@ export function simulateTable(t: FlowTable, vectors: string[], options: Simulate
     const column = keyToColumn(vectors[i]!);
     const out = stepMachine(rt, machine, column, policy);
     const diff = (machine.column ^ column) >>> 0;
-    const changed = popcount(diff);
+    const changed = countBits(diff);
     const start = { state: machine.state, column: machine.column };
     let applied: AppliedPolicy;
     let path: PathStep[];
     if (changed === 0) {
       applied = 'unchanged';
-      path = [stepOf(t, cols, machine.state, machine.column)];
+      path = [makeHeldStep(t, cols, machine.state, machine.column)];
     } else if (changed === 1 || policy === 'direct') {
       applied = changed === 1 ? 'single' : 'direct';
       path = traceSettle(t, machine.state, column, start).steps;
     } else if (policy === 'fault') {
       applied = 'fault';
-      path = [stepOf(t, cols, machine.state, machine.column)];
+      path = [makeHeldStep(t, cols, machine.state, machine.column)];
     } else if (policy === 'guarded') {
       applied = 'guarded';
-      path = out.fault === 'none' ? traceSettle(t, machine.state, column, start).steps : [stepOf(t, cols, machine.state, machine.column)];
+      path = out.fault === 'none' ? traceSettle(t, machine.state, column, start).steps : [makeHeldStep(t, cols, machine.state, machine.column)];
     } else {
       applied = 'stepwise';
-      path = [stepOf(t, cols, machine.state, machine.column)];
+      path = [makeHeldStep(t, cols, machine.state, machine.column)];
       let s = machine.state;
       let c = machine.column;
       for (let k = 0; k < n; k++) {
@@ -140,6 +140,6 @@ export function simulateTable(t: FlowTable, vectors: string[], options: Simulate
 }
 
 /** The held total state as the single `start` step of an event that does not move. */
-function stepOf(t: FlowTable, cols: number, state: number, column: number): PathStep {
+function makeHeldStep(t: FlowTable, cols: number, state: number, column: number): PathStep {
   return { state: t.states[state]!, inputs: columnToKey(column, t.inputs.length), kind: 'start', outputs: cellBits(t, state * cols + column) };
 }

@@ -38,6 +38,8 @@ export type AuditListItem = Pick<AuditRow, 'id' | 'action' | 'target' | 'detail'
   actorUserId: string | null;
   actorName: string | null;
   actorEmail: string | null;
+  /** Display name of a `user:<id>` target, when that account still exists. */
+  targetName: string | null;
 };
 
 /**
@@ -82,7 +84,15 @@ export async function listAudit(
     )
     .orderBy(desc(auditLog.id))
     .limit(limit + 1);
-  const items = rows.slice(0, limit);
+  const page = rows.slice(0, limit);
+  const targetIds = [...new Set(page.map((r) => /^user:(.+)$/.exec(r.target)?.[1]).filter((id): id is string => !!id))];
+  const names = new Map<string, string>();
+  if (targetIds.length > 0) {
+    for (const u of await db.select({ id: users.id, name: users.displayName }).from(users).where(inArray(users.id, targetIds))) {
+      names.set(u.id, u.name);
+    }
+  }
+  const items = page.map((r) => ({ ...r, targetName: names.get(/^user:(.+)$/.exec(r.target)?.[1] ?? '') ?? null }));
   const last = items[items.length - 1];
   return { items, nextBefore: rows.length > limit && last ? last.id : null };
 }

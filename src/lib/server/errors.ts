@@ -123,7 +123,7 @@ export function zodToApiError(error: ZodError): ApiError {
 /** Builds the JSON error Response `{"error":{code,message,field?}}` for any thrown value. */
 export function jsonError(error: unknown): Response {
   const apiError = toApiError(error);
-  if (apiError.status >= 500) console.error('[quiesce] unexpected error:', error);
+  if (apiError.status === 500) console.error('[quiesce] unexpected error:', error);
   const body: ErrorBody = { error: { code: apiError.code, message: apiError.message } };
   if (apiError.field) body.error.field = apiError.field;
   return new Response(JSON.stringify(body), {

@@ -200,7 +200,7 @@ export async function acceptInvite(db: Db, userId: string, token: string): Promi
       actorUserId: userId,
       action: 'member.joined',
       target: `user:${userId}`,
-      detail: { role: invite.role, invitedBy: invite.invitedBy },
+      detail: { role: invite.role, via: 'invitation' },
     });
     return { slug: ws.slug, role: invite.role };
   });

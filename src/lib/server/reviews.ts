@@ -19,7 +19,7 @@ import { composeMail } from './mail-templates';
 import { requireAction, type MemberContext } from './permissions';
 import { REVISION_REVIEW_STATES, summarizeReviewStates } from './review-states';
 import { getRevision, type RevisionWithAuthor } from './revisions';
-import { memberships, REVIEW_STATES, reviewComments, reviews, users, type ControllerRow, type ReviewState } from './schema';
+import { controllers, memberships, REVIEW_STATES, reviewComments, reviews, users, type ControllerRow, type ReviewState } from './schema';
 import { pickDefaultFrom } from './compare';
 
 /** Input of a review request: optionally the reviewers' user ids (default: every reviewer of the workspace). */
@@ -105,9 +105,12 @@ async function requireRevision(db: Db, controller: ControllerRow, number: number
   return rev;
 }
 
-function requireHead(controller: ControllerRow, rev: RevisionWithAuthor, verb: string): void {
-  if (rev.number !== controller.headRevision) {
-    throw new ApiError(409, 'superseded', `r${rev.number} was superseded by r${controller.headRevision}; ${verb} the newest revision instead.`, { field: 'revision' });
+async function requireHead(db: Db, controller: ControllerRow, rev: RevisionWithAuthor, verb: string): Promise<void> {
+  // Read the head afresh: the controller row in hand may predate a concurrent save.
+  const [row] = await db.select({ head: controllers.headRevision }).from(controllers).where(eq(controllers.id, controller.id));
+  const head = row?.head ?? controller.headRevision;
+  if (rev.number !== head) {
+    throw new ApiError(409, 'superseded', `r${rev.number} was superseded by r${head}; ${verb} the newest revision instead.`, { field: 'revision' });
   }
 }
 
@@ -183,7 +186,7 @@ export async function requestReview(
   requireAction(member, 'review.request');
   const data = requestReviewSchema.parse(input);
   const rev = await requireRevision(db, controller, number);
-  requireHead(controller, rev, 'ask for a review of');
+  await requireHead(db, controller, rev, 'ask for a review of');
   const candidates = await listReviewCandidates(db, member.workspace.id, [member.userId, rev.authorId]);
   let chosen: typeof candidates;
   if (data.reviewers && data.reviewers.length > 0) {
@@ -302,7 +305,7 @@ export async function decideReview(
   requireAction(member, 'review.decide');
   const data = verdictSchema.parse(input);
   const rev = await requireRevision(db, controller, number);
-  requireHead(controller, rev, 'review');
+  await requireHead(db, controller, rev, 'review');
   if (data.verdict === 'approve') {
     if (rev.findings.error > 0) {
       throw new ApiError(409, 'has_errors', `r${rev.number} has ${rev.findings.error} error finding(s) and cannot be approved; request changes instead.`, { field: 'verdict' });

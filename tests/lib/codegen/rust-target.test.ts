@@ -9,14 +9,15 @@
  */
 import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { join, resolve } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DOUBLE_CHANGE_POLICIES, cloneTable, type DoubleChangePolicy, type FlowTable } from '../../../src/lib/engine/model';
 import { generateBundle } from '../../../src/lib/codegen/bundle';
 import { engineReplayLines, hostileTable, loadDemoTables, loadKiss2Tables, randomWalk, run, sampleRandomTables, writeFiles, type RunResult } from './support';
 
 const work = mkdtempSync(join(tmpdir(), 'quiesce-codegen-rust-'));
-const target = process.env.CARGO_TARGET_DIR ?? join(work, 'target');
+// a fresh target folder shared by every crate of the run (stale example builds would confuse the replay lookup)
+const target = join(work, 'target');
 const cargoEnv = { ...process.env, CARGO_TARGET_DIR: target, CARGO_TERM_COLOR: 'never' };
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 
@@ -60,7 +61,8 @@ beforeAll(async () => {
   }
   writeFileSync(join(work, 'ws', 'Cargo.toml'), `[workspace]\nresolver = "2"\nmembers = [${crates.map((c) => JSON.stringify(c.dir.split('/').pop())).join(', ')}]\n`);
   const ws = join(work, 'ws');
-  testBuild = await run('cargo', ['test', '--offline', '--workspace', '--all-targets', '--no-run', '--message-format=json'], { cwd: ws, env: cargoEnv });
+  // default targets: the lib's unit tests, and the examples built as ordinary programs
+  testBuild = await run('cargo', ['test', '--offline', '--workspace', '--no-run', '--message-format=json'], { cwd: ws, env: cargoEnv });
   for (const line of testBuild.stdout.split('\n')) {
     if (!line.startsWith('{')) continue;
     const msg = JSON.parse(line) as { reason?: string; executable?: string | null; profile?: { test?: boolean }; target?: { kind?: string[] }; manifest_path?: string };
@@ -74,8 +76,9 @@ beforeAll(async () => {
     const m = /^(replay-[0-9a-f]+)\.d$/.exec(f);
     if (!m) continue;
     const deps = readFileSync(join(examples, f), 'utf8');
+    // paths are relative to the workspace root (`c3/examples/replay.rs`) or absolute
     const src = /\s(\S+)\/examples\/replay\.rs/.exec(deps);
-    if (src) replayBinaries.set(src[1]!, join(examples, m[1]!));
+    if (src) replayBinaries.set(resolve(ws, src[1]!), join(examples, m[1]!));
   }
   clippy = await run('cargo', ['clippy', '--offline', '--workspace', '--all-targets', '--', '-D', 'warnings'], { cwd: ws, env: cargoEnv });
   fmt = await run('cargo', ['fmt', '--all', '--check'], { cwd: ws, env: cargoEnv });

@@ -4,7 +4,7 @@ import { cloneTable, columnToKey, interchangeToTable, keyToColumn, type FlowTabl
 import { createRuntime, doubleChangeOutcomes } from '../../../src/lib/engine/runtime';
 import { analyzeTable, type Analysis } from '../../../src/lib/engine/analyze';
 import { findingSchema, findingToKey, type Finding } from '../../../src/lib/engine/findings';
-import { arbitraryFlowTable, loadCheckTable, referenceAnalysis } from '../../support/analysis-tables';
+import { arbitraryAnalysisTable, loadCheckTable, referenceAnalysis } from '../../support/analysis-tables';
 
 const byCode = (a: Analysis, code: Finding['code']) => a.findings.filter((f) => f.code === code);
 
@@ -117,6 +117,11 @@ describe('analysis semantics on an invented table', () => {
     expect(byCode(a, 'output-glitch')[0]!.message).toBe('From stable (armed, 01), changing door_closed makes unlock go 0, 1, 0 before it settles in (open, 11).');
     const gap = byCode(a, 'unspecified-transition');
     expect(gap).toMatchObject([{ state: 'idle', inputs: '11', fix: { action: 'add-cell', state: 'idle', inputs: '11', next: 'open' } }]);
+    // our extra code: open transient outputs between equal values (fill sets them)
+    expect(byCode(a, 'output-hazard').map((f) => f.message)).toEqual([
+      "From stable (idle, 00), changing key passes (idle, 01), where unlock is a don't-care that could add a change; output fill would set it to 0.",
+      "From stable (armed, 01), changing key passes (armed, 00), where unlock is a don't-care that could add a change; output fill would set it to 0.",
+    ]);
     for (const f of a.findings) expect(findingSchema.safeParse(f).success).toBe(true);
   });
 
@@ -146,7 +151,7 @@ describe('analysis semantics on an invented table', () => {
 describe('analysis against a plain enumeration of the contract', () => {
   it('agrees on random tables (stable, reachable, gaps, loops, glitches)', () => {
     fc.assert(
-      fc.property(arbitraryFlowTable(), (t) => {
+      fc.property(arbitraryAnalysisTable(), (t) => {
         const a = analyzeTable(t);
         const ref = referenceAnalysis(t);
         expect(new Set(a.stable.map((x) => `${x.state}@${x.inputs}`))).toEqual(ref.stable);
@@ -156,16 +161,17 @@ describe('analysis against a plain enumeration of the contract', () => {
         expect(new Set(byCode(a, 'oscillation').map((f) => `${f.inputs}:${f.cycle!.join(',')}`))).toEqual(ref.oscillations);
         expect(new Set(byCode(a, 'unspecified-power-up').map((f) => f.inputs))).toEqual(ref.powerUpUnspecified);
         expect(new Set(byCode(a, 'output-glitch').map((f) => `${f.state}@${f.from}>${f.inputs}:${f.output}`))).toEqual(ref.glitches);
+        for (const f of byCode(a, 'output-hazard')) expect(f.message).toMatch(/ passes \(/);
         const unreachable = t.states.filter((s) => !ref.reachable.has(s));
         expect(byCode(a, 'unreachable-state').map((f) => f.state)).toEqual(unreachable);
       }),
-      { numRuns: 400 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 
   it('raises order-dependent-double-change exactly where runtime.ts doubleChangeOutcomes disagree', () => {
     fc.assert(
-      fc.property(arbitraryFlowTable({ inputs: 3 }), (t) => {
+      fc.property(arbitraryAnalysisTable({ inputs: 3 }), (t) => {
         const a = analyzeTable(t);
         const rt = createRuntime(t);
         const n = t.inputs.length;
@@ -187,15 +193,15 @@ describe('analysis against a plain enumeration of the contract', () => {
           expect(states.includes(null) || new Set(states).size > 1).toBe(true);
         }
       }),
-      { numRuns: 300 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 
   it('is unchanged when states are renamed (modulo names)', () => {
     fc.assert(
-      fc.property(arbitraryFlowTable(), (t) => {
+      fc.property(arbitraryAnalysisTable(), (t) => {
         const renamed: FlowTable = cloneTable(t);
-        renamed.states = t.states.map((s, i) => `q${t.states.length - i}_${s}`);
+        renamed.states = t.states.map((_, i) => `renamed ${t.states.length - i}`);
         const back = new Map(renamed.states.map((s, i) => [s, t.states[i]!] as const));
         const unname = (s: string) => back.get(s) ?? s;
         const a = analyzeTable(t);
@@ -215,7 +221,7 @@ describe('analysis against a plain enumeration of the contract', () => {
         expect(b.stable.map((x) => ({ ...x, state: unname(x.state) }))).toEqual(a.stable);
         expect(b.counts).toEqual(a.counts);
       }),
-      { numRuns: 300 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 });

@@ -3,7 +3,7 @@ import fc from 'fast-check';
 import { cloneTable, interchangeToTable, NONE, tableToInterchange, type Interchange } from '../../../src/lib/engine/model';
 import { analyzeTable } from '../../../src/lib/engine/analyze';
 import { diffFindings, diffTables } from '../../../src/lib/engine/diff';
-import { arbitraryFlowTable } from '../../support/analysis-tables';
+import { arbitraryAnalysisTable } from '../../support/analysis-tables';
 
 // Invented example: a door interlock, edited in small steps.
 const base: Interchange = {
@@ -105,7 +105,7 @@ describe('diffTables', () => {
 
   it('finds exactly one changed cell after a random one-cell edit', () => {
     fc.assert(
-      fc.property(arbitraryFlowTable(), fc.nat(), fc.nat(), (t, at, to) => {
+      fc.property(arbitraryAnalysisTable(), fc.nat(), fc.nat(), (t, at, to) => {
         const b = cloneTable(t);
         const cell = at % t.next.length;
         const options = [NONE, ...t.states.map((_, i) => i)].filter((s) => s !== t.next[cell]);
@@ -125,7 +125,7 @@ describe('diffTables', () => {
         expect(ia.rows[c.state]![c.inputs] ?? '-').toBe(c.before);
         expect(ib.rows[c.state]![c.inputs] ?? '-').toBe(c.after);
       }),
-      { numRuns: 300 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 });

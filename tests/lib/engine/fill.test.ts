@@ -4,7 +4,7 @@ import { cellBits, cloneTable, countColumns, interchangeToTable, keyToColumn, NO
 import { analyzeTable } from '../../../src/lib/engine/analyze';
 import { fillOutputs } from '../../../src/lib/engine/fill';
 import { settle } from '../../../src/lib/engine/settle';
-import { arbitraryFlowTable, loadCheckTable } from '../../support/analysis-tables';
+import { arbitraryAnalysisTable, loadCheckTable } from '../../support/analysis-tables';
 
 describe('fillOutputs', () => {
   // Source: check-data README, gated latch worked example (Mano and Ciletti, Digital Design, encoded
@@ -74,7 +74,7 @@ describe('fillOutputs', () => {
 describe('fillOutputs on random tables', () => {
   it('adds no glitch: filled output-glitch findings are exactly the conflicts, and no hazard remains', () => {
     fc.assert(
-      fc.property(arbitraryFlowTable(), (t) => {
+      fc.property(arbitraryAnalysisTable(), (t) => {
         const { table, assignments, conflicts } = fillOutputs(t);
         const a = analyzeTable(table, { limit: 100000 });
         const glitches = a.findings.filter((f) => f.code === 'output-glitch').map((f) => `${f.state}@${f.from}>${f.inputs}:${f.output}`);
@@ -94,7 +94,7 @@ describe('fillOutputs on random tables', () => {
         // filling again changes nothing
         expect(fillOutputs(table).assignments).toEqual([]);
       }),
-      { numRuns: 400 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 
@@ -102,7 +102,7 @@ describe('fillOutputs on random tables', () => {
     // Realize every remaining don't-care on a settle path that heads to a specified value at random:
     // the glitches must still be exactly the conflicts.
     fc.assert(
-      fc.property(arbitraryFlowTable(), fc.infiniteStream(fc.boolean()), (t, coins) => {
+      fc.property(arbitraryAnalysisTable(), fc.infiniteStream(fc.boolean()), (t, coins) => {
         const { table, conflicts } = fillOutputs(t);
         const realized = cloneTable(table);
         const cols = countColumns(t.inputs.length);
@@ -125,7 +125,7 @@ describe('fillOutputs on random tables', () => {
           .map((f) => `${f.state}@${f.from}>${f.inputs}:${f.output}`);
         expect(new Set(glitches)).toEqual(new Set(conflicts.map((c) => `${c.state}@${c.from}>${c.inputs}:${c.output}`)));
       }),
-      { numRuns: 400 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 });

@@ -3,7 +3,7 @@ import fc from 'fast-check';
 import { cellBits, columnToKey, countColumns, DOUBLE_CHANGE_POLICIES, FlowTableError, keyToColumn, type FlowTable } from '../../../src/lib/engine/model';
 import { createRuntime, powerUp, stepMachine, type EventOutcome } from '../../../src/lib/engine/runtime';
 import { simulateTable } from '../../../src/lib/engine/simulate';
-import { arbitraryFlowTable, loadCheckTable } from '../../support/analysis-tables';
+import { arbitraryAnalysisTable, loadCheckTable } from '../../support/analysis-tables';
 
 function latch(): FlowTable {
   const t = loadCheckTable('gated-latch');
@@ -80,7 +80,7 @@ describe('simulateTable follows runtime.ts', () => {
   it('matches powerUp/stepMachine on random walks for every policy', () => {
     fc.assert(
       fc.property(
-        arbitraryFlowTable().chain((t) => fc.tuple(fc.constant(t), vectorsArb(t))),
+        arbitraryAnalysisTable().chain((t) => fc.tuple(fc.constant(t), vectorsArb(t))),
         ([t, [first, moves]]) => {
           const n = t.inputs.length;
           const cols = countColumns(n);
@@ -117,7 +117,7 @@ describe('simulateTable follows runtime.ts', () => {
           }
         },
       ),
-      { numRuns: 300 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 });

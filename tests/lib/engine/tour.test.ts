@@ -4,7 +4,7 @@ import { countColumns, interchangeToTable, keyToColumn, type FlowTable } from '.
 import { createRuntime, powerUp, stepMachine } from '../../../src/lib/engine/runtime';
 import { settle } from '../../../src/lib/engine/settle';
 import { buildTour, type Tour } from '../../../src/lib/engine/tour';
-import { arbitraryFlowTable, loadCheckTable } from '../../support/analysis-tables';
+import { arbitraryAnalysisTable, loadCheckTable } from '../../support/analysis-tables';
 
 /** Every SIC edge (stable cell, input) of the reachable stable total states, by plain BFS with settle(). */
 function enumerateEdges(t: FlowTable): Set<string> {
@@ -83,7 +83,7 @@ describe('buildTour', () => {
 
   it('covers every SIC of every reachable stable total state on random tables', () => {
     fc.assert(
-      fc.property(arbitraryFlowTable(), (t) => {
+      fc.property(arbitraryAnalysisTable(), (t) => {
         const tour = buildTour(t);
         const edges = enumerateEdges(t);
         expect(tour.total).toBe(edges.size);
@@ -94,7 +94,7 @@ describe('buildTour', () => {
         const steps = tour.segments.reduce((sum, s) => sum + s.steps.length, 0);
         expect(steps).toBeLessThanOrEqual(edges.size * (1 + t.states.length * countColumns(t.inputs.length)));
       }),
-      { numRuns: 400 },
+      { numRuns: 300, seed: 0x5eed },
     );
   });
 

@@ -74,8 +74,8 @@ describe.each(BACKENDS)('database on $name', (backend) => {
     const [row] = await db.select().from(s.bundles).where(eq(s.bundles.id, 'b1'));
     expect(row?.bytes).toBeInstanceOf(Uint8Array);
     expect(Array.from(row!.bytes)).toEqual(Array.from(bytes));
-    const count = await db.execute(sql`select count(*)::int as n from bundles`);
-    expect(count.rows[0]).toEqual({ n: 1 });
+    const [total] = await db.select({ n: sql<number>`count(*)::int` }).from(s.bundles);
+    expect(total).toEqual({ n: 1 });
   });
 });
 

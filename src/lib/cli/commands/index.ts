@@ -17,4 +17,5 @@ export const COMMANDS: Record<string, CommandEntry> = {
   simulate: { summary: 'run input vectors from power-up and show every step', load: () => import('./simulate') },
   fill: { summary: "give don't-care outputs values so single-input changes cannot glitch", load: () => import('./fill') },
   convert: { summary: 'convert between .qfl text, JSON, CSV and KISS2', load: () => import('./convert') },
+  generate: { summary: 'write the C or Rust handler with its unit tests as files or a reproducible zip', load: () => import('./generate') },
 };

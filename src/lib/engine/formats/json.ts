@@ -14,6 +14,7 @@ import {
   NONE,
   type FlowTable,
 } from '../model';
+import { quoteString } from './names';
 import { checkSourceText, collectIssues, offsetToLineColumn, stripBom, type IssueList } from './source';
 
 /** Deepest nesting the reader accepts; interchange documents need four levels. */
@@ -215,7 +216,7 @@ function parentOf(path: string): string {
   return m ? m[1]! : '';
 }
 
-const str = (s: string) => JSON.stringify(s);
+const str = quoteString;
 const strList = (xs: string[]) => `[${xs.map(str).join(', ')}]`;
 
 /**

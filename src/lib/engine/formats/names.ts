@@ -19,9 +19,17 @@ export function isKeyword(word: string): boolean {
   return KEYWORD_SET.has(word);
 }
 
+/**
+ * A JSON string literal that also escapes U+FFFD (which the source check reads as a sign of
+ * binary data), the byte-order mark and the Unicode line separators.
+ */
+export function quoteString(s: string): string {
+  return JSON.stringify(s).replace(/[\ufffd\ufeff\u2028\u2029]/g, (c) => `\\u${c.charCodeAt(0).toString(16)}`);
+}
+
 /** A name as `.qfl` writes it: bare when allowed, otherwise a JSON string. */
 export function formatName(name: string): string {
-  return isBareName(name) ? name : JSON.stringify(name);
+  return isBareName(name) ? name : quoteString(name);
 }
 
 /** Why a name breaks the model's name rules, or undefined when it is valid. */

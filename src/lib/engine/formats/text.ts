@@ -20,7 +20,7 @@ import {
   type Scenario,
 } from '../model';
 import { coverColumns, cubeToText, forEachCubeColumn, textToCube } from './cubes';
-import { BARE_NAME, checkName, formatName, isKeyword, plural, TEXT_KEYWORDS } from './names';
+import { BARE_NAME, checkName, formatName, isKeyword, plural, quoteString, TEXT_KEYWORDS } from './names';
 import { checkSourceText, collectIssues, splitLines, stripBom, type IssueList } from './source';
 
 /** Tables with more inputs than this print in the compact `cells` form. */
@@ -683,7 +683,7 @@ export function tableToText(t: FlowTable): string {
   const out: string[] = [];
   const list = (kw: string, names: string[]) => [kw, ...names.map(formatName)].join(' ');
   out.push(`flow ${formatName(t.name)}`);
-  if (t.description !== undefined) out.push(`about ${JSON.stringify(t.description)}`);
+  if (t.description !== undefined) out.push(`about ${quoteString(t.description)}`);
   out.push(list('inputs', t.inputs));
   out.push(list('outputs', t.outputs));
   const compact = n > GRID_MAX_INPUTS;
@@ -691,7 +691,7 @@ export function tableToText(t: FlowTable): string {
   out.push(`reset ${formatName(t.states[t.reset]!)}`);
   out.push(`double-change ${t.settings.doubleChange}`);
   if (t.settings.prefix !== undefined) out.push(`prefix ${t.settings.prefix}`);
-  for (const sc of t.scenarios) out.push(['scenario', JSON.stringify(sc.name), ...sc.inputs.map(fmtKey)].join(' '));
+  for (const sc of t.scenarios) out.push(['scenario', quoteString(sc.name), ...sc.inputs.map(fmtKey)].join(' '));
   out.push('');
   const cols = countColumns(n);
   const printedStates = t.states.map(formatName);

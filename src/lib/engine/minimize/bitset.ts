@@ -123,11 +123,27 @@ export function bitsetToKey(b: Bitset): string {
   return s;
 }
 
+/** True when `b` has a member above `x`. */
+function hasMemberAbove(b: Bitset, x: number): boolean {
+  const w = x >>> 5;
+  const rest = (x & 31) === 31 ? 0 : b[w]! & ~((2 << (x & 31)) - 1);
+  if (rest !== 0) return true;
+  for (let v = w + 1; v < b.length; v++) if (b[v] !== 0) return true;
+  return false;
+}
+
 /** Orders sets by their ascending member lists, lexicographically (a deterministic total order). */
 export function compareBitsets(a: Bitset, b: Bitset): number {
-  const la = bitsetToList(a);
-  const lb = bitsetToList(b);
-  return compareLists(la, lb);
+  for (let w = 0; w < a.length; w++) {
+    const d = a[w]! ^ b[w]!;
+    if (d === 0) continue;
+    const x = (w << 5) + (31 - Math.clz32(d & -d));
+    // the lists agree below x; the one holding x is smaller unless the other one ends there
+    const aHas = (a[w]! & (d & -d)) !== 0;
+    if (aHas) return hasMemberAbove(b, x) ? -1 : 1;
+    return hasMemberAbove(a, x) ? 1 : -1;
+  }
+  return 0;
 }
 
 /** Lexicographic order of ascending index lists (a shorter prefix comes first). */

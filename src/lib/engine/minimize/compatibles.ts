@@ -237,30 +237,61 @@ export function enumeratePrimeCompatibles(
     if (size > top) top = size;
   }
   const primes: CompatibleClass[] = [];
+  // membership[s]: bit q set when state s is in primes[q]; ANDing members' rows finds supersets fast
+  const n = space.stateCount;
+  let capacityWords = 4;
+  let membership: Uint32Array[] = Array.from({ length: n }, () => new Uint32Array(capacityWords));
+  const addPrime = (c: CompatibleClass): void => {
+    const q = primes.length;
+    if (q >>> 5 >= capacityWords) {
+      capacityWords *= 2;
+      membership = membership.map((row) => {
+        const grown = new Uint32Array(capacityWords);
+        grown.set(row);
+        return grown;
+      });
+    }
+    primes.push(c);
+    const word = q >>> 5;
+    const bit = 1 << (q & 31);
+    for (const s of bitsetToList(c.states)) membership[s]![word]! |= bit;
+  };
   let examined = 0;
   for (let k = top; k >= 1; k--) {
     const level = levels.get(k);
     if (!level) continue;
     levels.delete(k);
     const candidates = [...level.values()].sort(compareBitsets);
-    const larger = primes.slice();
+    // primes found before this level are all larger; primes of this level cannot contain a candidate
+    const largerWords = (primes.length + 31) >>> 5;
     for (const cand of candidates) {
       if (++examined > limit || ((examined & 255) === 0 && limits.deadline !== undefined && now() > limits.deadline)) {
         return { primes: sortClasses(primes), complete: false, examined };
       }
       const classSet = computeClassSet(space, cand);
+      const members = bitsetToList(cand);
       let excluded = false;
       if (!maximalKeys.has(bitsetToKey(cand))) {
-        for (const q of larger) {
-          if (isSubset(cand, q.states) && isClassSetCovered(q.classSet, classSet)) {
-            excluded = true;
-            break;
+        for (let w = 0; w < largerWords && !excluded; w++) {
+          let x = 0xffffffff;
+          for (const s of members) {
+            x &= membership[s]![w]!;
+            if (x === 0) break;
+          }
+          while (x !== 0) {
+            const low = x & -x;
+            x ^= low;
+            const q = primes[(w << 5) + (31 - Math.clz32(low))]!;
+            if (isClassSetCovered(q.classSet, classSet)) {
+              excluded = true;
+              break;
+            }
           }
         }
       }
-      if (!excluded) primes.push({ states: cand, size: k, classSet });
+      if (!excluded) addPrime({ states: cand, size: k, classSet });
       if (classSet.length === 0 || k === 1) continue;
-      for (let s = firstBit(cand); s >= 0; s = nextMember(cand, s)) {
+      for (const s of members) {
         const sub = cand.slice();
         clearBit(sub, s);
         offer(sub, k - 1);
@@ -268,11 +299,6 @@ export function enumeratePrimeCompatibles(
     }
   }
   return { primes: sortClasses(primes), complete: true, examined };
-}
-
-function nextMember(b: Bitset, after: number): number {
-  for (let i = after + 1; i < b.length * 32; i++) if ((b[i >>> 5]! >>> (i & 31)) & 1) return i;
-  return -1;
 }
 
 function sortClasses(list: CompatibleClass[]): CompatibleClass[] {

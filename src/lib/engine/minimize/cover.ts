@@ -60,8 +60,8 @@ interface CoverProblem {
   /** For each candidate, the ids of its implied classes. */
   candClasses: number[][];
   classStates: Bitset[];
-  /** For each class id, the candidates containing it. */
-  classCands: Bitset[];
+  /** For each class id, the candidates containing it (filled on first use by `classCandidates`). */
+  classCands: (Bitset | undefined)[];
   /** For each state, the candidates containing it. */
   stateCands: Bitset[];
   /** For each state, the set holding only it. */
@@ -84,7 +84,7 @@ function buildProblem(n: number, cands: CompatibleClass[]): CoverProblem {
   });
   const classIndex = new Map<string, number>();
   const classStates: Bitset[] = [];
-  const classCands: Bitset[] = [];
+  const classCands: (Bitset | undefined)[] = [];
   const candClasses = cands.map((c) =>
     c.classSet.map((d) => {
       const k = bitsetToKey(d);
@@ -93,17 +93,27 @@ function buildProblem(n: number, cands: CompatibleClass[]): CoverProblem {
         id = classStates.length;
         classIndex.set(k, id);
         classStates.push(d);
-        const cc = createBitset(m);
-        cands.forEach((e, i) => {
-          if (isSubset(d, e.states)) setBit(cc, i);
-        });
-        classCands.push(cc);
+        classCands.push(undefined);
       }
       return id;
     }),
   );
   const singletons = Array.from({ length: n }, (_, s) => bitsetFromList(n, [s]));
   return { n, m, cands, candClasses, classStates, classCands, stateCands, singletons };
+}
+
+/** Candidates containing class `id`: the intersection of its members' candidate sets. */
+function classCandidates(p: CoverProblem, id: number): Bitset {
+  let cc = p.classCands[id];
+  if (cc) return cc;
+  const members = bitsetToList(p.classStates[id]!);
+  cc = p.stateCands[members[0]!]!.slice();
+  for (let k = 1; k < members.length; k++) {
+    const row = p.stateCands[members[k]!]!;
+    for (let w = 0; w < cc.length; w++) cc[w]! &= row[w]!;
+  }
+  p.classCands[id] = cc;
+  return cc;
 }
 
 /** Requirements still open for a partial cover: uncovered states, then unsatisfied classes. */
@@ -115,7 +125,8 @@ function openRequirements(p: CoverProblem, chosen: readonly number[], chosenMask
     for (const id of p.candClasses[i]!) {
       if (seen.has(id)) continue;
       seen.add(id);
-      if (!intersects(p.classCands[id]!, chosenMask)) reqs.push({ states: p.classStates[id]!, cands: p.classCands[id]! });
+      const cc = classCandidates(p, id);
+      if (!intersects(cc, chosenMask)) reqs.push({ states: p.classStates[id]!, cands: cc });
     }
   }
   return reqs;
@@ -171,7 +182,11 @@ function findGreedyIndices(p: CoverProblem): { chosen: number[] } | { missing: B
     for (const i of bitsetToList(reqs[pick]!.cands)) {
       let score = 0;
       for (const r of reqs) if (hasBit(r.cands, i)) score += 2;
-      for (const id of p.candClasses[i]!) if (!intersects(p.classCands[id]!, mask) && !hasBit(p.classCands[id]!, i)) score -= 1;
+      // classes the candidate would add that no chosen candidate (nor itself) already holds
+      for (const id of p.candClasses[i]!) {
+        const d = p.classStates[id]!;
+        if (!chosen.some((j) => isSubset(d, p.cands[j]!.states))) score -= 1;
+      }
       score += countBits(p.cands[i]!.states) * 1e-3;
       if (score > bestScore) {
         bestScore = score;

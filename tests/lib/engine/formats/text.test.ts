@@ -78,7 +78,7 @@ describe('.qfl grid form', () => {
   });
 
   it('quotes names that are not bare words, keywords, or "-", and reads them back', () => {
-    const t = parseText('flow "door #2"\ninputs "-" "a b" grid\noutputs "out/put?"\nreset "cells"\ngrid 000 100 110 010 011 111 101 001\n "cells" "cells"/1 - - - - - - "say \\"hi\\""/0\n "say \\"hi\\"" - - - - - - - -\n');
+    const t = parseText('flow "door #2"\ninputs "-" "a b" grid\noutputs "out put?"\nreset "cells"\ngrid 000 100 110 010 011 111 101 001\n "cells" "cells"/1 - - - - - - "say \\"hi\\""/0\n "say \\"hi\\"" - - - - - - - -\n');
     expect(t.name).toBe('door #2');
     expect(t.inputs).toEqual(['-', 'a b', 'grid']);
     expect(t.states).toEqual(['cells', 'say "hi"']);

@@ -1,0 +1,8 @@
+/** The project root. */
+export const ROOT: string;
+/** The absolute output directory (QUIESCE_OUT_DIR or dist/). */
+export function outDirOf(outDir?: string): string;
+/** Why a build is needed, or null when the existing one is current. */
+export function whyBuild(outDir?: string): string | null;
+/** Builds into outDir unless the build there is current; returns true when it built. */
+export function ensureBuilt(options?: { outDir?: string; log?: (message: string) => void }): Promise<boolean>;
