@@ -14,5 +14,7 @@ export const WORKSPACE_TABS: WorkspaceTab[] = [
   { id: 'controllers', label: 'Controllers', path: '' },
   { id: 'members', label: 'Members', path: '/members' },
   { id: 'audit', label: 'Audit log', path: '/audit', ownerOnly: true },
+  { id: 'keys', label: 'CI keys', path: '/keys', ownerOnly: true },
+  { id: 'api', label: 'API', path: '/api' },
   { id: 'settings', label: 'Settings', path: '/settings' },
 ];

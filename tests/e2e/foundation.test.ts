@@ -218,6 +218,20 @@ describe('foundation e2e (built server, Chromium)', () => {
     expect(unknownAudit.status).toBe(401);
   });
 
+  it('lists the demo accounts in demo mode and signs in with one of them', async () => {
+    await page.getByRole('button', { name: 'Sign out' }).click();
+    await page.waitForURL(/signed-out/);
+    await page.getByRole('button', { name: 'Sign in as the demo viewer' }).click();
+    await page.waitForURL(/\/workspaces$/);
+    const card = page.getByRole('link', { name: /Halvorsen Machine Works/ });
+    await expect(card.innerText()).resolves.toMatch(/3 controllers · 4 members\s*viewer/);
+    await page.emulateMedia({ colorScheme: 'dark' });
+    await browser.screenshot(page, 'foundation/12-workspaces-dark');
+    await page.goto(`${server.url}/w/halvorsen/members`);
+    await browser.screenshot(page, 'foundation/13-members-dark');
+    await page.emulateMedia({ colorScheme: 'light' });
+  });
+
   it('kept every browser request on loopback', () => {
     expect(browser.hosts().length).toBeGreaterThan(0);
     browser.assertLoopbackOnly();

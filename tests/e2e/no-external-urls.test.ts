@@ -1,13 +1,13 @@
 /**
  * The built client must not reach outside the app: no CDN (Monaco's loader ships one by default,
  * stripped at build time by src/lib/build/strip-cdn.ts), no external host at all. Every
- * http(s) URL in dist/client/**\/*.js must be loopback or on the allow-list below, each entry
+ * http(s) URL in <build>/client/**\/*.js must be loopback or on the allow-list below, each entry
  * a string that is never fetched (XML namespaces, or links printed in help and error text).
  */
 import { existsSync, readdirSync, readFileSync, statSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { ensureBuilt } from './workbench/build';
+import { buildApp } from './support/server';
 
 /** URLs that may appear in the bundle, and why they are harmless. */
 const ALLOWED: { pattern: RegExp; why: string }[] = [
@@ -36,7 +36,7 @@ let clientDir = '';
 
 describe('built client', () => {
   beforeAll(async () => {
-    clientDir = join(await ensureBuilt(), 'client');
+    clientDir = join(await buildApp(), 'client');
   });
 
   it('contains no CDN address of Monaco', () => {

@@ -66,7 +66,7 @@ function ControllerListInner({ workspace, canEdit }: ControllerListProps) {
 
   const header = (key: SortKey, label: string) => (
     <th scope="col" aria-sort={sort.key === key ? (sort.dir === 1 ? 'ascending' : 'descending') : 'none'}>
-      <button type="button" className="font-semibold hover:text-ink" onClick={() => setSort({ key, dir: sort.key === key ? ((-sort.dir) as 1 | -1) : key === 'name' ? 1 : -1 })}>
+      <button type="button" className="font-semibold hover:text-ink whitespace-nowrap" onClick={() => setSort({ key, dir: sort.key === key ? ((-sort.dir) as 1 | -1) : key === 'name' ? 1 : -1 })}>
         {label} <span aria-hidden="true">{sort.key === key ? (sort.dir === 1 ? '▲' : '▼') : '↕'}</span>
       </button>
     </th>

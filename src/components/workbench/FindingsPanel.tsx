@@ -70,7 +70,7 @@ export default function FindingsPanel(props: FindingsPanelProps) {
                   const selected = key === selectedKey;
                   return (
                     <li key={key} className={`rounded-md border ${selected ? 'border-focus bg-raised' : 'border-line bg-surface'}`} data-finding-code={f.code}>
-                      <button type="button" className="w-full text-left px-2.5 py-1.5 rounded-md" onClick={() => onSelect(f)} aria-pressed={selected} aria-label={`${f.severity} ${f.code}: ${f.message}. Show it in the table.`}>
+                      <button type="button" className="w-full text-left px-2.5 py-1.5 rounded-md" title={CODE_EXPLANATIONS[f.code]} onClick={() => onSelect(f)} aria-pressed={selected} aria-label={`${f.severity} ${f.code}: ${f.message}. Show it in the table.`}>
                         <span className="flex items-center gap-2 flex-wrap">
                           <code className="text-xs font-semibold">{f.code}</code>
                           {f.state && <span className="q-badge font-mono">{f.state}</span>}
@@ -78,7 +78,7 @@ export default function FindingsPanel(props: FindingsPanelProps) {
                           {f.output && <span className="q-badge font-mono">out {f.output}</span>}
                         </span>
                         <span className="block text-sm mt-0.5">{f.message}</span>
-                        <span className="block text-xs text-ink-muted mt-0.5">{CODE_EXPLANATIONS[f.code] ?? ''}</span>
+                        {selected && <span className="block text-xs text-ink-muted mt-0.5">{CODE_EXPLANATIONS[f.code] ?? ''}</span>}
                         {f.path.length > 0 && (
                           <span className="block font-mono text-xs text-ink-muted mt-0.5" aria-label="path">
                             {f.path.map((p) => `${p.state}@${p.inputs}${p.kind === 'stable' ? '●' : p.kind === 'unspecified' ? '?' : p.kind === 'repeat' ? '↺' : ''}`).join(' → ')}

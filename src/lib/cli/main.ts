@@ -30,7 +30,7 @@ function readVersion(): string {
   }
 }
 
-function overview(): string {
+function formatOverview(): string {
   const width = Math.max(...Object.keys(COMMANDS).map((k) => k.length));
   return [
     'quiesce: check, minimize and convert fundamental-mode flow tables',
@@ -47,7 +47,7 @@ function overview(): string {
   ].join('\n');
 }
 
-function commandHelp(name: string, cmd: CliCommand): string {
+function formatCommandHelp(name: string, cmd: CliCommand): string {
   const opts = Object.entries({ ...cmd.options, help: HELP_OPTION }).map(([key, o]) => {
     const flag = `${o.short ? `-${o.short}, ` : ''}--${key}${o.type === 'string' ? ` ${o.value ?? 'VALUE'}` : ''}`;
     return [flag, o.description] as const;
@@ -59,20 +59,20 @@ function commandHelp(name: string, cmd: CliCommand): string {
 /** Runs the CLI with arguments (without `node` and the script); resolves to the exit code. */
 export async function main(argv: string[], io: CliIo = createProcessIo()): Promise<number> {
   try {
-    return await run(argv, io);
+    return await runCommand(argv, io);
   } catch (e) {
-    return report(e, io);
+    return reportError(e, io);
   }
 }
 
-async function run(argv: string[], io: CliIo): Promise<number> {
+async function runCommand(argv: string[], io: CliIo): Promise<number> {
   const [first, ...rest] = argv;
   if (first === undefined) {
-    io.stderr(overview());
+    io.stderr(formatOverview());
     return 2;
   }
   if (first === '--help' || first === '-h') {
-    io.stdout(overview());
+    io.stdout(formatOverview());
     return 0;
   }
   if (first === '--version' || first === '-v') {
@@ -83,7 +83,7 @@ async function run(argv: string[], io: CliIo): Promise<number> {
   let args = rest;
   if (first === 'help') {
     if (rest[0] === undefined) {
-      io.stdout(overview());
+      io.stdout(formatOverview());
       return 0;
     }
     name = rest[0];
@@ -110,7 +110,7 @@ async function run(argv: string[], io: CliIo): Promise<number> {
     throw new CliError(`${name}: ${msg}`, `run \`quiesce ${name} --help\``);
   }
   if (parsed.values.help) {
-    io.stdout(commandHelp(name, command));
+    io.stdout(formatCommandHelp(name, command));
     return 0;
   }
   const { min, max } = command.positionals;
@@ -133,7 +133,7 @@ async function run(argv: string[], io: CliIo): Promise<number> {
   return await command.run(ctx);
 }
 
-function report(e: unknown, io: CliIo): number {
+function reportError(e: unknown, io: CliIo): number {
   if (e instanceof SourceError) io.stderr(`${formatFlowTableError(e.file, e.error)}\n`);
   else if (e instanceof CliError) io.stderr(`quiesce: ${e.message}${e.hint ? ` (hint: ${e.hint})` : ''}\n`);
   else if (e instanceof FlowTableError) io.stderr(`${formatFlowTableError('quiesce', e)}\n`);

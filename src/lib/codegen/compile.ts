@@ -6,8 +6,11 @@
  * that column, never an intermediate one. Settling failures are encoded in the same table as two
  * reserved codes just past the last state (`states` = unspecified cell reached, `states + 1` =
  * oscillation), so a fault costs one comparison and the fault reason is `code - states + 1`.
- * Outputs are needed only at stable cells; each cell's care and value masks are packed into one
- * word (`value | care << outputs`) when that fits in 32 bits, else kept as two arrays.
+ * The output table is indexed like the next-state table and holds the outputs of the stable cell
+ * each cell settles in, so a single-input change reads both with one index. An entry is a *keep*
+ * mask (the outputs the stable cell leaves open, which hold their previous value) and the values
+ * of the others: `outputs = (outputs & keep) | value`, packed into one word
+ * (`value | keep << outputs`) when that fits in 32 bits, else two arrays.
  */
 import { countColumns, type DoubleChangePolicy, type FlowTable, FlowTableError } from '../engine/model';
 import { computeReach } from '../engine/reachability';
@@ -48,10 +51,10 @@ export interface CompiledMachine {
   faultCodes: { unspecified: number; oscillation: number };
   /** Settled next state, or a fault code, per cell. */
   next: number[];
-  /** Packed `value | care << outputCount` per cell ('packed'); 0 at cells that are not stable (never read). */
+  /** Packed `value | keep << outputCount` per cell ('packed'), from the stable cell it settles in; 0 where settling fails (never read). */
   outCode: number[];
-  /** Care and value masks per cell ('split'). */
-  outCare: number[];
+  /** Keep and value masks per cell ('split'), likewise. */
+  outKeep: number[];
   outValue: number[];
   identifiers: IdentifierMap;
   vectors: TestVectors;
@@ -94,17 +97,20 @@ export function compileMachine(t: FlowTable, options: CompileOptions = {}): Comp
   }
   const layout: OutputLayout = m === 0 ? 'none' : 2 * m <= 32 ? 'packed' : 'split';
   const outCode: number[] = [];
-  const outCare: number[] = [];
+  const outKeep: number[] = [];
   const outValue: number[] = [];
   if (layout !== 'none') {
+    const all = m === 32 ? 0xffffffff : (1 << m) - 1;
     for (let i = 0; i < size; i++) {
-      const stable = t.next[i] === ((i / cols) | 0);
-      const care = stable ? t.outCare[i]! : 0;
-      const value = stable ? t.outValue[i]! & care : 0;
-      if (layout === 'packed') outCode.push((value | (care << m)) >>> 0);
+      const ok = fault[i] === SETTLE_OK;
+      const end = term[i]!;
+      const care = ok ? t.outCare[end]! : 0;
+      const keep = ok ? (~care & all) >>> 0 : 0;
+      const value = ok ? (t.outValue[end]! & care) >>> 0 : 0;
+      if (layout === 'packed') outCode.push((value | (keep << m)) >>> 0);
       else {
-        outCare.push(care >>> 0);
-        outValue.push(value >>> 0);
+        outKeep.push(keep);
+        outValue.push(value);
       }
     }
   }
@@ -129,7 +135,7 @@ export function compileMachine(t: FlowTable, options: CompileOptions = {}): Comp
     faultCodes: codes,
     next,
     outCode,
-    outCare,
+    outKeep,
     outValue,
     identifiers: buildIdentifiers(t, prefix),
     vectors: buildVectors(t, reach),

@@ -54,7 +54,11 @@ export function toCodeSpan(raw: string): string {
 
 /** Markdown text with its special characters escaped. */
 export function toMarkdownText(text: string): string {
-  return text.replace(/\r\n?/g, '\n').replace(/([\\`*_{}[\]<>()#+!|~])/g, '\\$1');
+  // `_` only needs escaping where it could open or close emphasis: not inside a word
+  return text
+    .replace(/\r\n?/g, '\n')
+    .replace(/([\\`*{}[\]<>#|~])/g, '\\$1')
+    .replace(/(^|[^A-Za-z0-9])_|_(?=[^A-Za-z0-9]|$)/g, (m) => m.replace('_', '\\_'));
 }
 
 /** A TOML basic string. */

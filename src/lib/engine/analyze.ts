@@ -68,46 +68,72 @@ export interface SettleTrace {
   cycle?: number[];
 }
 
+/** Traces settle paths of one table; see traceSettle. */
+export type SettleTracer = (state: number, column: number, start?: { state: number; column: number }) => SettleTrace;
+
+/**
+ * A tracer for many paths of one table: it reuses its visit marks and caches column keys and cell
+ * output strings, so listing hundreds of findings stays cheap.
+ */
+export function createTracer(t: FlowTable): SettleTracer {
+  const n = t.inputs.length;
+  const cols = countColumns(n);
+  const keys = new Map<number, string>();
+  const bits = new Map<number, string>();
+  const stamp = new Int32Array(t.states.length);
+  const pos = new Int32Array(t.states.length);
+  let generation = 0;
+  const keyOf = (c: number): string => {
+    let k = keys.get(c);
+    if (k === undefined) keys.set(c, (k = columnToKey(c, n)));
+    return k;
+  };
+  const bitsOf = (cell: number): string => {
+    let b = bits.get(cell);
+    if (b === undefined) bits.set(cell, (b = cellBits(t, cell)));
+    return b;
+  };
+  const step = (s: number, c: number, kind: PathStep['kind']): PathStep => ({ state: t.states[s]!, inputs: keyOf(c), kind, outputs: bitsOf(s * cols + c) });
+  return (state, column, start) => {
+    if (++generation === 0x7fffffff) {
+      stamp.fill(0);
+      generation = 1;
+    }
+    const steps: PathStep[] = [];
+    const withStart = start !== undefined;
+    if (start) steps.push(step(start.state, start.column, 'start'));
+    const order: number[] = [];
+    let s = state;
+    for (;;) {
+      const nx = t.next[s * cols + column]!;
+      stamp[s] = generation;
+      pos[s] = order.length;
+      order.push(s);
+      if (nx === L_NONE) {
+        steps.push(step(s, column, 'unspecified'));
+        return { steps, end: 'unspecified', state: s };
+      }
+      if (nx === s) {
+        steps.push(step(s, column, 'stable'));
+        return { steps, end: 'stable', state: s };
+      }
+      steps.push(step(s, column, !withStart && steps.length === 0 ? 'start' : 'transient'));
+      if (stamp[nx] === generation) {
+        steps.push(step(nx, column, 'repeat'));
+        return { steps, end: 'oscillation', state: nx, cycle: order.slice(pos[nx]) };
+      }
+      s = nx;
+    }
+  };
+}
+
 /**
  * Traces settling of `state` in `column` as path steps. With `start` (a stable total state the
  * event begins in) the first step is that cell; without it the first cell is marked `start`
  * unless settling ends there.
  */
 export function traceSettle(t: FlowTable, state: number, column: number, start?: { state: number; column: number }): SettleTrace {
-  const cols = countColumns(t.inputs.length);
-  const key = columnToKey(column, t.inputs.length);
-  const steps: PathStep[] = [];
-  const withStart = start !== undefined;
-  if (start) steps.push(makeStep(t, start.state, start.column, 'start'));
-  const order: number[] = [];
-  const seen = new Map<number, number>();
-  let s = state;
-  for (;;) {
-    const cell = s * cols + column;
-    const nx = t.next[cell]!;
-    seen.set(s, order.length);
-    order.push(s);
-    if (nx === L_NONE) {
-      steps.push({ state: t.states[s]!, inputs: key, kind: 'unspecified', outputs: cellBits(t, cell) });
-      return { steps, end: 'unspecified', state: s };
-    }
-    if (nx === s) {
-      steps.push({ state: t.states[s]!, inputs: key, kind: 'stable', outputs: cellBits(t, cell) });
-      return { steps, end: 'stable', state: s };
-    }
-    steps.push({ state: t.states[s]!, inputs: key, kind: !withStart && steps.length === 0 ? 'start' : 'transient', outputs: cellBits(t, cell) });
-    const again = seen.get(nx);
-    if (again !== undefined) {
-      steps.push({ state: t.states[nx]!, inputs: key, kind: 'repeat', outputs: cellBits(t, nx * cols + column) });
-      return { steps, end: 'oscillation', state: nx, cycle: order.slice(again) };
-    }
-    s = nx;
-  }
-}
-
-function makeStep(t: FlowTable, state: number, column: number, kind: PathStep['kind']): PathStep {
-  const cell = state * countColumns(t.inputs.length) + column;
-  return { state: t.states[state]!, inputs: columnToKey(column, t.inputs.length), kind, outputs: cellBits(t, cell) };
+  return createTracer(t)(state, column, start);
 }
 
 /** Lists names as `a`, `a and b`, `a, b and c`. */
@@ -167,6 +193,7 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
     return l;
   };
   const where = (s: number, c: number): string => `(${names[s]}, ${keys[c]})`;
+  const trace = createTracer(t);
 
   // stable total states, and rows without one
   const stable: CellRef[] = [];
@@ -210,7 +237,7 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
   for (let g = 0; g < cols; g++) {
     const c = gray[g]!;
     const cell = t.reset * cols + c;
-    const tr = traceSettle(t, t.reset, c);
+    const tr = trace(t.reset, c);
     const f = fault[cell]!;
     powerUp.push({ inputs: keys[c]!, result: tr.end, state: f === L_SETTLE_OK ? names[term[cell]! >> n]! : null, path: tr.steps });
     if (f === L_SETTLE_OK) continue;
@@ -254,13 +281,13 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       const onceE = once[e]!;
       const g = (twice[e]! | (care0 & fc & (val0 ^ fv) & onceE)) >>> 0;
       if (g !== 0) {
-        for (let o = 0; o < m; o++) if ((g >>> o) & 1) glitches.open ? glitches.add(() => describeGlitch(t, s, c, k, o)) : glitches.skip();
+        for (let o = 0; o < m; o++) if ((g >>> o) & 1) glitches.open ? glitches.add(() => describeGlitch(t, trace, s, c, k, o)) : glitches.skip();
       }
       // same rule as computeEntryRisk, inlined
       const entry = next[e] !== s ? ~outCare[e]! & fc & (~care0 | ~(val0 ^ fv)) : 0;
       const h = ((risk[e]! | entry) & ~g) >>> 0;
       if (h !== 0) {
-        for (let o = 0; o < m; o++) if ((h >>> o) & 1) hazards.open ? hazards.add(() => describeHazard(t, s, c, k, o)) : hazards.skip();
+        for (let o = 0; o < m; o++) if ((h >>> o) & 1) hazards.open ? hazards.add(() => describeHazard(t, trace, s, c, k, o)) : hazards.skip();
       }
     }
     for (let a = 0; a < n; a++) {
@@ -271,7 +298,7 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
         const direct = base + target;
         const sd = settled[direct]!;
         if (sd !== L_NONE && va !== L_NONE && vb !== L_NONE && settled[(va << n) | target] === sd && settled[(vb << n) | target] === sd) continue;
-        if (doubles.open) doubles.add(() => describeDoubleChange(t, s, c, a, b));
+        if (doubles.open) doubles.add(() => describeDoubleChange(t, trace, s, c, a, b));
         else doubles.skip();
       }
     }
@@ -290,7 +317,7 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       const k = src - x * n;
       const s = x >> n;
       const c = x & (cols - 1);
-      const tr = traceSettle(t, s, c ^ (1 << k), { state: s, column: c });
+      const tr = trace(s, c ^ (1 << k), { state: s, column: c });
       const others = hits[u]! - 1;
       return {
         state: names[us]!,
@@ -314,14 +341,14 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       let tr: SettleTrace;
       let how: string;
       if (src <= -2) {
-        tr = traceSettle(t, t.reset, c2);
+        tr = trace(t.reset, c2);
         how = 'at power-up';
       } else {
         const x = Math.floor(src / Math.max(n, 1));
         const k = src - x * n;
         const s = x >> n;
         const c = x & (cols - 1);
-        tr = traceSettle(t, s, c2, { state: s, column: c });
+        tr = trace(s, c2, { state: s, column: c });
         how = `from stable ${where(s, c)} by changing ${t.inputs[k]}`;
       }
       const cycle = (tr.cycle ?? []).map((s) => names[s]!).sort();
@@ -415,11 +442,11 @@ function listValuesAlong(t: FlowTable, s: number, c: number, c2: number, o: numb
   }
 }
 
-function describeGlitch(t: FlowTable, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
+function describeGlitch(t: FlowTable, trace: SettleTracer, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
   const n = t.inputs.length;
   const c2 = c ^ (1 << k);
   const { values, end } = listValuesAlong(t, s, c, c2, o);
-  const tr = traceSettle(t, s, c2, { state: s, column: c });
+  const tr = trace(s, c2, { state: s, column: c });
   return {
     state: t.states[s]!,
     from: columnToKey(c, n),
@@ -430,7 +457,7 @@ function describeGlitch(t: FlowTable, s: number, c: number, k: number, o: number
   };
 }
 
-function describeHazard(t: FlowTable, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
+function describeHazard(t: FlowTable, trace: SettleTracer, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
   const n = t.inputs.length;
   const cols = countColumns(n);
   const c2 = c ^ (1 << k);
@@ -459,7 +486,7 @@ function describeHazard(t: FlowTable, s: number, c: number, k: number, o: number
   }
   const one = places.length === 1;
   const sameValue = values.every((v) => v === values[0]);
-  const tr = traceSettle(t, s, c2, { state: s, column: c });
+  const tr = trace(s, c2, { state: s, column: c });
   return {
     state: t.states[s]!,
     from: columnToKey(c, n),
@@ -473,22 +500,22 @@ function describeHazard(t: FlowTable, s: number, c: number, k: number, o: number
   };
 }
 
-function describeDoubleChange(t: FlowTable, s: number, c: number, a: number, b: number): Omit<Finding, 'code' | 'severity'> {
+function describeDoubleChange(t: FlowTable, trace: SettleTracer, s: number, c: number, a: number, b: number): Omit<Finding, 'code' | 'severity'> {
   const n = t.inputs.length;
   const target = c ^ (1 << a) ^ (1 << b);
   const start = { state: s, column: c };
   const ordered = (first: number, second: number): Outcome => {
     const mid = c ^ (1 << first);
-    const one = traceSettle(t, s, mid, start);
+    const one = trace(s, mid, start);
     const label = `${t.inputs[first]} then ${t.inputs[second]}`;
     if (one.end !== 'stable') return { label, state: null, path: one.steps };
-    const two = traceSettle(t, one.state, target);
+    const two = trace(one.state, target);
     const steps = [...one.steps, ...two.steps.map((p) => (p.kind === 'start' ? { ...p, kind: 'transient' as const } : p))];
     return { label, state: two.end === 'stable' ? t.states[two.state]! : null, path: steps };
   };
   const ab = ordered(a, b);
   const ba = ordered(b, a);
-  const d = traceSettle(t, s, target, start);
+  const d = trace(s, target, start);
   const direct: Outcome = { label: 'together', state: d.end === 'stable' ? t.states[d.state]! : null, path: d.steps };
   const say = (o: Outcome): string => (o.state === null ? 'fails' : `ends in ${o.state}`);
   return {

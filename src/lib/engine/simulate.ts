@@ -4,7 +4,7 @@
  */
 import { cellBits, columnToKey, countColumns, doubleChangePolicySchema, FlowTableError, keyToColumn, type DoubleChangePolicy, type EngineIssue, type FlowTable } from './model';
 import { createRuntime, powerUp, stepMachine, type FaultReason, type MachineState } from './runtime';
-import { traceSettle } from './analyze';
+import { createTracer } from './analyze';
 import type { PathStep } from './findings';
 
 /** Most vectors one simulation accepts. */
@@ -92,12 +92,13 @@ export function simulateTable(t: FlowTable, vectors: string[], options: Simulate
   const m = t.outputs.length;
   const cols = countColumns(n);
   const steps: SimulationStep[] = [];
+  const trace = createTracer(t);
   const record = (inputs: string, changed: number, applied: AppliedPolicy, path: PathStep[], ms: MachineState, fault: FaultReason): void => {
     steps.push({ inputs, changed, policy: applied, path, state: t.states[ms.state]!, column: columnToKey(ms.column, n), outputs: outputsToBits(ms.outputs, m), fault });
   };
   const first = keyToColumn(vectors[0]!);
   const up = powerUp(rt, first);
-  record(vectors[0]!, 0, 'power-up', traceSettle(t, t.reset, first).steps, up.next, up.fault);
+  record(vectors[0]!, 0, 'power-up', trace(t.reset, first).steps, up.next, up.fault);
   let machine = up.next;
   for (let i = 1; i < vectors.length; i++) {
     const column = keyToColumn(vectors[i]!);
@@ -112,13 +113,13 @@ export function simulateTable(t: FlowTable, vectors: string[], options: Simulate
       path = [makeHeldStep(t, cols, machine.state, machine.column)];
     } else if (changed === 1 || policy === 'direct') {
       applied = changed === 1 ? 'single' : 'direct';
-      path = traceSettle(t, machine.state, column, start).steps;
+      path = trace(machine.state, column, start).steps;
     } else if (policy === 'fault') {
       applied = 'fault';
       path = [makeHeldStep(t, cols, machine.state, machine.column)];
     } else if (policy === 'guarded') {
       applied = 'guarded';
-      path = out.fault === 'none' ? traceSettle(t, machine.state, column, start).steps : [makeHeldStep(t, cols, machine.state, machine.column)];
+      path = out.fault === 'none' ? trace(machine.state, column, start).steps : [makeHeldStep(t, cols, machine.state, machine.column)];
     } else {
       applied = 'stepwise';
       path = [makeHeldStep(t, cols, machine.state, machine.column)];
@@ -127,7 +128,7 @@ export function simulateTable(t: FlowTable, vectors: string[], options: Simulate
       for (let k = 0; k < n; k++) {
         if (!((diff >> k) & 1)) continue;
         c ^= 1 << k;
-        const tr = traceSettle(t, s, c);
+        const tr = trace(s, c);
         for (const p of tr.steps) path.push(p.kind === 'start' ? { ...p, kind: 'transient' } : p);
         if (tr.end !== 'stable') break;
         s = tr.state;

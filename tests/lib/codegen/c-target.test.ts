@@ -16,6 +16,7 @@ import {
   HOST_CFLAGS,
   engineReplayLines,
   hostileTable,
+  wideTable,
   loadDemoTables,
   loadKiss2Tables,
   parseSummary,
@@ -46,6 +47,7 @@ const cases: Case[] = [
   ...loadKiss2Tables().map(({ file, table }) => ({ id: `kiss2 ${file}`, table })),
   ...sampleRandomTables(6, 4242).map((table, i) => ({ id: `random ${i + 1}`, table })),
   { id: 'hostile names', table: hostileTable() },
+  { id: '300 states (16-bit codes), no outputs', table: wideTable() },
 ];
 
 /** Generates, builds with the Makefile, runs the unit tests; returns the bundle folder and prefix. */
@@ -83,8 +85,8 @@ describe.concurrent('C bundles build cleanly, pass their own tests and replay li
 });
 
 describe('C bundles of the demo tables', () => {
-  it.each(demos.map((d) => [d.file, d.table] as const))('%s compiles for Cortex-M0+ with -Werror and is clean under cppcheck', async (_file, table) => {
-    const bundle = await generateBundle(table, { target: 'c', revision: 'r2' });
+  it.each(demos.flatMap((d) => DOUBLE_CHANGE_POLICIES.map((p) => [d.file, p, d.table] as const)))('%s (%s) compiles for Cortex-M0+ with -Werror and is clean under cppcheck', async (_file, policy, table) => {
+    const bundle = await generateBundle(withPolicy(table, policy), { target: 'c', revision: 'r2' });
     const dir = mkdtempSync(join(work, 'demo-'));
     writeFiles(dir, bundle.files);
     const p = bundle.manifest.identifiers.prefix;

@@ -24,25 +24,19 @@ interface Emulated {
 function emulate(m: CompiledMachine) {
   const S = m.stateCount;
   const cell = (s: number, c: number) => (s << m.inputCount) | c;
-  const land = (x: Emulated, s: number, c: number): void => {
-    let care = 0;
-    let value = 0;
+  // `at` is the cell just looked up, or any cell settling in (s, c): the output table is indexed by it
+  const land = (x: Emulated, s: number, c: number, at: number): void => {
     if (m.outputLayout === 'packed') {
-      const code = m.outCode[cell(s, c)]!;
-      care = code >>> m.outputCount;
-      value = code & ((1 << m.outputCount) - 1);
-    } else if (m.outputLayout === 'split') {
-      care = m.outCare[cell(s, c)]!;
-      value = m.outValue[cell(s, c)]!;
-    }
+      const code = m.outCode[at]!;
+      x.outputs = ((x.outputs & (code >>> m.outputCount)) | (code & ((1 << m.outputCount) - 1))) >>> 0;
+    } else if (m.outputLayout === 'split') x.outputs = ((x.outputs & m.outKeep[at]!) | m.outValue[at]!) >>> 0;
     x.state = s;
     x.inputs = c;
-    x.outputs = ((x.outputs & ~care) | value) >>> 0;
   };
   const init = (column: number): Emulated => {
     const x: Emulated = { state: m.reset, inputs: column, outputs: 0, fault: 0 };
     const s = m.next[cell(m.reset, column)]!;
-    if (s < S) land(x, s, column);
+    if (s < S) land(x, s, column, cell(m.reset, column));
     else x.fault = 4;
     return x;
   };
@@ -52,14 +46,14 @@ function emulate(m: CompiledMachine) {
     if (diff === 0) return;
     if ((diff & (diff - 1)) === 0) {
       const s = m.next[cell(x.state, column)]!;
-      if (s < S) land(x, s, column);
+      if (s < S) land(x, s, column, cell(x.state, column));
       else x.fault = s - (S - 1);
       return;
     }
     if (m.policy === 'fault') x.fault = 3;
     else if (m.policy === 'direct') {
       const s = m.next[cell(x.state, column)]!;
-      if (s < S) land(x, s, column);
+      if (s < S) land(x, s, column, cell(x.state, column));
       else x.fault = 3;
     } else if (m.policy === 'guarded') {
       const rest = diff & (diff - 1);
@@ -70,7 +64,7 @@ function emulate(m: CompiledMachine) {
         const a = m.next[cell(x.state, x.inputs ^ first)]!;
         const b = m.next[cell(x.state, x.inputs ^ rest)]!;
         if (direct < S && a < S && b < S && m.next[cell(a, column)] === direct && m.next[cell(b, column)] === direct) {
-          land(x, direct, column);
+          land(x, direct, column, cell(x.state, column));
           x.fault = 0;
         }
       }
@@ -83,7 +77,7 @@ function emulate(m: CompiledMachine) {
           s = m.next[cell(s, c)]!;
         }
       }
-      if (s < S) land(x, s, column);
+      if (s < S) land(x, s, column, cell(s, column));
       else x.fault = 3;
     }
   };
@@ -153,9 +147,9 @@ describe('compileMachine', () => {
     const m = compileMachine(t);
     expect(m.faultCodes).toEqual({ unspecified: 2, oscillation: 3 });
     expect(m.next).toEqual([0, 3, 2, 3]);
-    // one output: value in bit 0, care in bit 1; only the stable cell (a, 0) is stored
+    // one output: value in bit 0, keep (left open) in bit 1; only (a, 0) settles, and it specifies y = 1
     expect(m.outputLayout).toBe('packed');
-    expect(m.outCode).toEqual([0b11, 0, 0, 0]);
+    expect(m.outCode).toEqual([0b01, 0, 0, 0]);
   });
 
   it('packs care and value into one word up to 16 outputs, two arrays above', () => {

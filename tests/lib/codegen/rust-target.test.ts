@@ -13,7 +13,7 @@ import { join, resolve } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DOUBLE_CHANGE_POLICIES, cloneTable, type DoubleChangePolicy, type FlowTable } from '../../../src/lib/engine/model';
 import { generateBundle } from '../../../src/lib/codegen/bundle';
-import { engineReplayLines, hostileTable, loadDemoTables, loadKiss2Tables, randomWalk, run, sampleRandomTables, writeFiles, type RunResult } from './support';
+import { engineReplayLines, hostileTable, wideTable, loadDemoTables, loadKiss2Tables, randomWalk, run, sampleRandomTables, writeFiles, type RunResult } from './support';
 
 const work = mkdtempSync(join(tmpdir(), 'quiesce-codegen-rust-'));
 // a fresh target folder shared by every crate of the run (stale example builds would confuse the replay lookup)
@@ -43,6 +43,7 @@ const specs: Omit<Crate, 'dir' | 'name'>[] = [
   ...loadKiss2Tables().map(({ file, table }) => ({ id: `kiss2 ${file}`, table })),
   ...sampleRandomTables(6, 4242).map((table, i) => ({ id: `random ${i + 1}`, table, prefix: `random_${i + 1}` })),
   { id: 'hostile names', table: hostileTable() },
+  { id: '300 states (16-bit codes), no outputs', table: wideTable() },
 ];
 const crates: Crate[] = specs.map((s, i) => ({ ...s, dir: join(work, 'ws', `c${i}`), name: '' }));
 

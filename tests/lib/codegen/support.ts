@@ -7,7 +7,7 @@ import { spawn } from 'node:child_process';
 import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import fc from 'fast-check';
-import { columnToKey, interchangeToTable, type FlowTable } from '../../../src/lib/engine/model';
+import { columnToKey, createTable, interchangeToTable, type FlowTable } from '../../../src/lib/engine/model';
 import { parseKiss2 } from '../../../src/lib/engine/formats/kiss2';
 import { simulateTable } from '../../../src/lib/engine/simulate';
 import type { BundleFile } from '../../../src/lib/codegen/bundle';
@@ -78,6 +78,17 @@ export function hostileTable(): FlowTable {
     settings: { doubleChange: 'stepwise' },
     scenarios: [{ name: 'a "scenario" */ with ??/ odd\nname', inputs: ['000', '100', '110', '111'] }],
   });
+  return t;
+}
+
+/**
+ * A table past the one-byte state codes (300 states, so 16-bit codes) with no outputs: state s is
+ * stable in column s mod 4, and every other cell moves one state on, so settling walks chains.
+ */
+export function wideTable(): FlowTable {
+  const states = Array.from({ length: 300 }, (_, i) => `w${i}`);
+  const t = createTable({ name: 'wide', inputs: ['a', 'b'], outputs: [], states, settings: { doubleChange: 'direct' } });
+  for (let s = 0; s < states.length; s++) for (let c = 0; c < 4; c++) t.next[s * 4 + c] = s % 4 === c ? s : (s + 1) % states.length;
   return t;
 }
 

@@ -2,7 +2,7 @@
 import { analyzeTable, type Analysis } from '../../engine/analyze';
 import type { Finding } from '../../engine/findings';
 import type { FlowTable } from '../../engine/model';
-import { plural } from '../../engine/formats/names';
+import { pluralize } from '../../engine/formats/names';
 import { FROM_OPTION, JSON_OPTION, toPrettyJson } from './shared';
 import type { CliCommand } from './types';
 
@@ -29,11 +29,11 @@ export function analysisToJson(a: Analysis, withPath: boolean): Record<string, u
 /** The analysis as text for people. */
 export function analysisToText(t: FlowTable, a: Analysis): string {
   const lines: string[] = [];
-  lines.push(`${t.name}: ${plural(t.states.length, 'state')}, ${plural(t.inputs.length, 'input')}, ${plural(t.outputs.length, 'output')}`);
+  lines.push(`${t.name}: ${pluralize(t.states.length, 'state')}, ${pluralize(t.inputs.length, 'input')}, ${pluralize(t.outputs.length, 'output')}`);
   lines.push(`stable total states (${a.stable.length}): ${a.stable.map((c) => `(${c.state}, ${c.inputs})`).join(' ') || 'none'}`);
   lines.push(`reachable states (${a.reachable.length} of ${t.states.length}): ${a.reachable.join(' ') || 'none'}`);
   const c = a.counts;
-  lines.push(`findings: ${plural(c.error, 'error')}, ${plural(c.warning, 'warning')}, ${c.info} info`);
+  lines.push(`findings: ${pluralize(c.error, 'error')}, ${pluralize(c.warning, 'warning')}, ${c.info} info`);
   const w = Math.max(0, ...a.findings.map((f) => f.code.length));
   for (const f of a.findings) lines.push(`  ${f.severity.padEnd(7)}  ${f.code.padEnd(w)}  ${f.message}`);
   return `${lines.join('\n')}\n`;

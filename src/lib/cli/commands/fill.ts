@@ -1,7 +1,7 @@
 /** `quiesce fill FILE`: give don't-care outputs in transient cells values that cannot glitch. */
 import { exportTable, FORMATS } from '../../engine/formats/index';
 import { tableToJson } from '../../engine/formats/json';
-import { plural } from '../../engine/formats/names';
+import { pluralize } from '../../engine/formats/names';
 import { fillOutputs } from '../../engine/fill';
 import { checkFormat } from '../io';
 import { FROM_OPTION, indentJson, JSON_OPTION, OUT_OPTION, writeResult } from './shared';
@@ -31,7 +31,7 @@ export const command: CliCommand = {
       );
     } else {
       await writeResult(exportTable(r.table, to ?? format), ctx.values.out, ctx.io.stdout);
-      const lines = [`filled ${plural(r.assignments.length, "don't-care output")}; ${plural(r.conflicts.length, 'change')} still glitch${r.conflicts.length === 1 ? 'es' : ''}`];
+      const lines = [`filled ${pluralize(r.assignments.length, "don't-care output")}; ${pluralize(r.conflicts.length, 'change')} still glitch${r.conflicts.length === 1 ? 'es' : ''}`];
       for (const c of r.conflicts) lines.push(`  (${c.state}, ${c.from}) -> ${c.inputs}, output ${c.output}: ${c.reason}`);
       ctx.io.stderr(`${lines.join('\n')}\n`);
     }

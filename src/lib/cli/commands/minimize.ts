@@ -6,7 +6,7 @@ import { CliError } from '../io';
 import { FROM_OPTION, indentJson, JSON_OPTION } from './shared';
 import type { CliCommand } from './types';
 
-function positiveInt(v: string | boolean | undefined, flag: string): number | undefined {
+function parsePositiveInt(v: string | boolean | undefined, flag: string): number | undefined {
   if (typeof v !== 'string') return undefined;
   if (!/^\d{1,9}$/.test(v) || Number(v) < 1) throw new CliError(`${flag} ${JSON.stringify(v)} is not a positive whole number`, `e.g. ${flag} 2000`);
   return Number(v);
@@ -25,8 +25,8 @@ export const command: CliCommand = {
   },
   positionals: { min: 1, max: 1 },
   async run(ctx) {
-    const timeBudgetMs = positiveInt(ctx.values['time-budget'], '--time-budget');
-    const nodeBudget = positiveInt(ctx.values['node-budget'], '--node-budget');
+    const timeBudgetMs = parsePositiveInt(ctx.values['time-budget'], '--time-budget');
+    const nodeBudget = parsePositiveInt(ctx.values['node-budget'], '--node-budget');
     const { table } = await ctx.load(ctx.positionals[0]!);
     const opts: MinimizeOptions = { ...(timeBudgetMs !== undefined ? { timeBudgetMs } : {}), ...(nodeBudget !== undefined ? { nodeBudget } : {}) };
     const r = minimizeTable(table, opts);

@@ -36,7 +36,7 @@ export interface CContext extends CommonContext {
   codeTop: number;
   inputTop: number;
   layout: { none: boolean; packed: boolean; split: boolean };
-  tables: { next: string; out: string; outCare: string; outValue: string };
+  tables: { next: string; out: string; outKeep: string; outValue: string };
   vectors: {
     powerUp: CVectorTable;
     sequences: { index: number; name: string; count: number; rows: string }[];
@@ -115,7 +115,7 @@ export function buildCContext(m: CompiledMachine, options: CodegenOptions, sourc
     tables: {
       next: formatRows(cellRows(m, m.next, decimal), '    ', 16, 'c'),
       out: m.outputLayout === 'packed' ? formatRows(cellRows(m, m.outCode, (x) => hexLiteral(x, codeDigits, 'u')), '    ', 12, 'c') : '',
-      outCare: m.outputLayout === 'split' ? formatRows(cellRows(m, m.outCare, (x) => hexLiteral(x, 8, 'u')), '    ', 8, 'c') : '',
+      outKeep: m.outputLayout === 'split' ? formatRows(cellRows(m, m.outKeep, (x) => hexLiteral(x, 8, 'u')), '    ', 8, 'c') : '',
       outValue: m.outputLayout === 'split' ? formatRows(cellRows(m, m.outValue, (x) => hexLiteral(x, 8, 'u')), '    ', 8, 'c') : '',
     },
     vectors: {

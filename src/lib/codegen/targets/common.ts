@@ -57,6 +57,8 @@ export interface PolicyContext {
   name: DoubleChangePolicy;
   macro: string;
   summary: string;
+  /** The summary wrapped for comments. */
+  summaryLines: string[];
   guarded: boolean;
   fault: boolean;
   stepwise: boolean;
@@ -69,6 +71,7 @@ export function policyContext(policy: DoubleChangePolicy): PolicyContext {
     name: policy,
     macro: policy.toUpperCase(),
     summary: POLICY_SUMMARIES[policy],
+    summaryLines: wrapWords(POLICY_SUMMARIES[policy], 92),
     guarded: policy === 'guarded',
     fault: policy === 'fault',
     stepwise: policy === 'stepwise',

@@ -32,10 +32,11 @@ export interface RustContext extends CommonContext {
   inputMask: string;
   outputMask: string;
   layout: { none: boolean; packed: boolean; split: boolean };
-  outExpr: { care: string; value: string };
+  /** Keep and value masks from a packed output entry `code`. */
+  outExpr: { keep: string; value: string };
   /** The `use` list of examples/replay.rs, braces included. */
   replayImports: string;
-  tables: { next: string; out: string; outCare: string; outValue: string };
+  tables: { next: string; out: string; outKeep: string; outValue: string };
   vectors: {
     powerUp: RustVectorTable;
     sequences: { index: number; name: string; count: number; rows: string }[];
@@ -86,13 +87,10 @@ export function buildRustContext(m: CompiledMachine, options: CodegenOptions, so
   }));
   const outputs = rustType(m.outputBits);
   const codeWider = m.outCodeBits !== m.outputBits;
-  const outExpr =
-    m.outputLayout === 'packed'
-      ? {
-          care: codeWider ? `(code >> OUTPUT_COUNT) as ${outputs}` : 'code >> OUTPUT_COUNT',
-          value: codeWider ? `(code as ${outputs}) & OUTPUT_MASK` : 'code & OUTPUT_MASK',
-        }
-      : { care: 'OUT_CARE[at]', value: 'OUT_VALUE[at]' };
+  const outExpr = {
+    keep: codeWider ? `(code >> OUTPUT_COUNT) as ${outputs}` : 'code >> OUTPUT_COUNT',
+    value: codeWider ? `(code as ${outputs}) & OUTPUT_MASK` : 'code & OUTPUT_MASK',
+  };
   const codeDigits = hexDigits(m.outCodeBits);
   const rows = (items: string[], perLine: number) => ({ count: items.length, rows: formatRows([{ values: items }], '        ', perLine, 'rust') });
   return {
@@ -113,7 +111,7 @@ export function buildRustContext(m: CompiledMachine, options: CodegenOptions, so
     tables: {
       next: formatRows(cellRows(m, m.next, String), '    ', 16, 'rust'),
       out: m.outputLayout === 'packed' ? formatRows(cellRows(m, m.outCode, (x) => hexLiteral(x, codeDigits)), '    ', 12, 'rust') : '',
-      outCare: m.outputLayout === 'split' ? formatRows(cellRows(m, m.outCare, (x) => hexLiteral(x, 8)), '    ', 8, 'rust') : '',
+      outKeep: m.outputLayout === 'split' ? formatRows(cellRows(m, m.outKeep, (x) => hexLiteral(x, 8)), '    ', 8, 'rust') : '',
       outValue: m.outputLayout === 'split' ? formatRows(cellRows(m, m.outValue, (x) => hexLiteral(x, 8)), '    ', 8, 'rust') : '',
     },
     vectors: {

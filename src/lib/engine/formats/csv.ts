@@ -18,7 +18,7 @@ import {
   type FlowTable,
   type Scenario,
 } from '../model';
-import { checkName, plural } from './names';
+import { checkName, pluralize } from './names';
 import { checkSourceText, collectIssues, stripBom, type IssueList } from './source';
 
 /** Options of the CSV importer. */
@@ -120,7 +120,7 @@ export function readCsvRecords(text: string, issues: IssueList): CsvRecord[] {
 }
 
 /** Spreadsheet column letters of a 0-based field index (0 = A, 26 = AA). */
-function columnLetters(index: number): string {
+function toColumnLetters(index: number): string {
   let s = '';
   let k = index + 1;
   while (k > 0) {
@@ -155,7 +155,7 @@ export function parseCsv(src: string, opts: CsvOptions = {}): FlowTable {
 function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): FlowTable {
   const at = (rec: CsvRecord, fi: number, message: string, hint?: string) => {
     const f = rec.fields[fi] ?? rec.fields[rec.fields.length - 1]!;
-    issues.add(f.line, fi < rec.fields.length ? f.col : f.col + f.text.length, `${message} (cell ${columnLetters(fi)}${rec.row})`, hint);
+    issues.add(f.line, fi < rec.fields.length ? f.col : f.col + f.text.length, `${message} (cell ${toColumnLetters(fi)}${rec.row})`, hint);
   };
   const meta = new Map<string, CsvRecord>();
   const scenarioRecs: CsvRecord[] = [];
@@ -226,7 +226,7 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
         at(rec, i + 1, `invalid ${what} name ${JSON.stringify(f.text)}`, why);
         ok = false;
       } else if (seen.has(f.text)) {
-        at(rec, i + 1, `duplicate ${what} ${JSON.stringify(f.text)}`, `first in cell ${columnLetters(seen.get(f.text)!)}${rec.row}`);
+        at(rec, i + 1, `duplicate ${what} ${JSON.stringify(f.text)}`, `first in cell ${toColumnLetters(seen.get(f.text)!)}${rec.row}`);
         ok = false;
       } else seen.set(f.text, i + 1);
     });
@@ -298,7 +298,7 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
     const keys: string[] = [];
     vecs.forEach((f, i) => {
       const k = n === 0 ? (f.text === '' ? '' : null) : readKey(f.text, n);
-      if (k === null) at(rec, i + 2, `"${f.text}" is not a column key of ${plural(n, 'character')} 0 or 1`, `character k is input k: ${inputs.join(' ')}`);
+      if (k === null) at(rec, i + 2, `"${f.text}" is not a column key of ${pluralize(n, 'character')} 0 or 1`, `character k is input k: ${inputs.join(' ')}`);
       else keys.push(k);
     });
     scenarios.push({ name: nm.text, inputs: keys });
@@ -314,12 +314,12 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
   keyFields.forEach((f, i) => {
     const k = n === 0 ? (f.text === '' ? '' : null) : readKey(f.text, n);
     if (k === null) {
-      if (headerOk) at(hdr, i + 1, `"${f.text}" is not a column key of ${plural(n, 'character')} 0 or 1`, n ? `character k is input k: ${inputs.join(' ')}` : 'with no inputs the only key is empty');
+      if (headerOk) at(hdr, i + 1, `"${f.text}" is not a column key of ${pluralize(n, 'character')} 0 or 1`, n ? `character k is input k: ${inputs.join(' ')}` : 'with no inputs the only key is empty');
       headerOk = false;
       return;
     }
     if (seenKey.has(k)) {
-      at(hdr, i + 1, `duplicate column key "${k}"`, `first in cell ${columnLetters(seenKey.get(k)!)}${hdr.row}`);
+      at(hdr, i + 1, `duplicate column key "${k}"`, `first in cell ${toColumnLetters(seenKey.get(k)!)}${hdr.row}`);
       headerOk = false;
       return;
     }
@@ -328,7 +328,7 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
   });
   if (headerOk && seenKey.size !== columns) {
     const missing = grayKeys(n).filter((k) => !seenKey.has(k));
-    at(hdr, 0, `the header row lacks ${plural(missing.length, 'column key')}: ${missing.slice(0, 8).join(' ')}${missing.length > 8 ? ' ...' : ''}`, `list each of the ${columns} column keys once`);
+    at(hdr, 0, `the header row lacks ${pluralize(missing.length, 'column key')}: ${missing.slice(0, 8).join(' ')}${missing.length > 8 ? ' ...' : ''}`, `list each of the ${columns} column keys once`);
     headerOk = false;
   }
 
@@ -383,7 +383,7 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
     while (cells.length > keyCols.length && cells[cells.length - 1]!.text === '') cells.pop();
     if (n === 0 && cells.length === 0) cells = [{ text: '', line: rec.fields[0]!.line, col: rec.fields[0]!.col }];
     if (cells.length !== keyCols.length) {
-      at(rec, 0, `row has ${plural(cells.length, 'cell')}, the header has ${plural(keyCols.length, 'column')}`, 'write one cell per header column; - marks an unspecified cell');
+      at(rec, 0, `row has ${pluralize(cells.length, 'cell')}, the header has ${pluralize(keyCols.length, 'column')}`, 'write one cell per header column; - marks an unspecified cell');
       continue;
     }
     cells.forEach((f, i) => {
@@ -402,7 +402,7 @@ function readLayout(records: CsvRecord[], opts: CsvOptions, issues: IssueList): 
         return;
       }
       if (bits !== undefined && (bits.length !== m || !/^[01-]*$/.test(bits))) {
-        at(rec, i + 1, `output bits "${bits}" are not ${plural(m, 'character')} of 0, 1 and -`, `one character per output, in the order ${outputs.join(' ')}`);
+        at(rec, i + 1, `output bits "${bits}" are not ${pluralize(m, 'character')} of 0, 1 and -`, `one character per output, in the order ${outputs.join(' ')}`);
         return;
       }
       const cell = s * columns + keyCols[i]!;

@@ -21,7 +21,7 @@ import { checkSourceText, collectIssues, offsetToLineColumn, stripBom, type Issu
 export const MAX_JSON_DEPTH = 64;
 
 /** Path of a value as the model names it: `rows.armed["11"]`, `inputs[2]`. */
-function childPath(parent: string, key: string | number): string {
+function joinPath(parent: string, key: string | number): string {
   if (typeof key === 'number') return `${parent}[${key}]`;
   if (parent === '') return key;
   return /^[A-Za-z_][A-Za-z0-9_]*$/.test(key) ? `${parent}.${key}` : `${parent}[${JSON.stringify(key)}]`;
@@ -109,7 +109,7 @@ export function readJson(text: string, positions: Map<string, number>): unknown 
         ws();
         if (text[i] !== ':') throw new JsonSyntax(i, `expected ":" after the key, found ${describe(i)}`, 'write "key": value');
         i++;
-        const vPath = childPath(path, key);
+        const vPath = joinPath(path, key);
         const v = readValue(vPath, depth + 1);
         // defineProperty keeps a key such as "__proto__" as plain data
         Object.defineProperty(obj, key, { value: v, enumerable: true, writable: true, configurable: true });
@@ -136,7 +136,7 @@ export function readJson(text: string, positions: Map<string, number>): unknown 
       for (;;) {
         ws();
         if (text[i] === ']') throw new JsonSyntax(i, 'a trailing comma before "]"', 'remove the comma');
-        arr.push(readValue(childPath(path, arr.length), depth + 1));
+        arr.push(readValue(joinPath(path, arr.length), depth + 1));
         ws();
         if (text[i] === ',') {
           i++;
@@ -202,7 +202,7 @@ export function parseJson(src: string): FlowTable {
     throw new FlowTableError(
       e.issues.map((issue) => {
         const key = issue.where === '(document)' ? '' : issue.where;
-        const offset = positions.get(key) ?? positions.get(parentOf(key)) ?? 0;
+        const offset = positions.get(key) ?? positions.get(getParentPath(key)) ?? 0;
         const p = offsetToLineColumn(text, offset);
         return { ...issue, line: p.line, column: p.column };
       }),
@@ -211,13 +211,13 @@ export function parseJson(src: string): FlowTable {
 }
 
 /** The path one level up: `rows.armed["11"]` to `rows.armed`. */
-function parentOf(path: string): string {
+function getParentPath(path: string): string {
   const m = /^(.*?)(?:\.[A-Za-z_][A-Za-z0-9_]*|\[(?:\d+|"(?:[^"\\]|\\.)*")\])$/.exec(path);
   return m ? m[1]! : '';
 }
 
-const str = quoteString;
-const strList = (xs: string[]) => `[${xs.map(str).join(', ')}]`;
+const quote = quoteString;
+const quoteList = (xs: string[]) => `[${xs.map(quote).join(', ')}]`;
 
 /**
  * Prints a table as canonical interchange JSON: fixed key order, one line per row with its
@@ -226,22 +226,22 @@ const strList = (xs: string[]) => `[${xs.map(str).join(', ')}]`;
 export function tableToJson(t: FlowTable): string {
   const cols = countColumns(t.inputs.length);
   const order = grayKeys(t.inputs.length);
-  const lines: string[] = ['{', `  "format": "quiesce-flow-table",`, `  "version": 1,`, `  "name": ${str(t.name)},`];
-  if (t.description !== undefined) lines.push(`  "description": ${str(t.description)},`);
-  lines.push(`  "inputs": ${strList(t.inputs)},`, `  "outputs": ${strList(t.outputs)},`, `  "states": ${strList(t.states)},`, `  "reset": ${str(t.states[t.reset]!)},`, '  "rows": {');
+  const lines: string[] = ['{', `  "format": "quiesce-flow-table",`, `  "version": 1,`, `  "name": ${quote(t.name)},`];
+  if (t.description !== undefined) lines.push(`  "description": ${quote(t.description)},`);
+  lines.push(`  "inputs": ${quoteList(t.inputs)},`, `  "outputs": ${quoteList(t.outputs)},`, `  "states": ${quoteList(t.states)},`, `  "reset": ${quote(t.states[t.reset]!)},`, '  "rows": {');
   t.states.forEach((s, si) => {
     const cells: string[] = [];
     for (const key of order) {
       const cell = si * cols + keyToColumn(key);
-      if (t.next[cell] !== NONE) cells.push(`${str(key)}: ${str(cellToText(t, cell))}`);
+      if (t.next[cell] !== NONE) cells.push(`${quote(key)}: ${quote(cellToText(t, cell))}`);
     }
-    lines.push(`    ${str(s)}: ${cells.length ? `{ ${cells.join(', ')} }` : '{}'}${si < t.states.length - 1 ? ',' : ''}`);
+    lines.push(`    ${quote(s)}: ${cells.length ? `{ ${cells.join(', ')} }` : '{}'}${si < t.states.length - 1 ? ',' : ''}`);
   });
-  const settings = [`"doubleChange": ${str(t.settings.doubleChange)}`, ...(t.settings.prefix !== undefined ? [`"prefix": ${str(t.settings.prefix)}`] : [])];
+  const settings = [`"doubleChange": ${quote(t.settings.doubleChange)}`, ...(t.settings.prefix !== undefined ? [`"prefix": ${quote(t.settings.prefix)}`] : [])];
   lines.push('  },', `  "settings": { ${settings.join(', ')} }${t.scenarios.length ? ',' : ''}`);
   if (t.scenarios.length) {
     lines.push('  "scenarios": [');
-    t.scenarios.forEach((sc, i) => lines.push(`    { "name": ${str(sc.name)}, "inputs": ${strList(sc.inputs)} }${i < t.scenarios.length - 1 ? ',' : ''}`));
+    t.scenarios.forEach((sc, i) => lines.push(`    { "name": ${quote(sc.name)}, "inputs": ${quoteList(sc.inputs)} }${i < t.scenarios.length - 1 ? ',' : ''}`));
     lines.push('  ]');
   }
   lines.push('}');

@@ -5,7 +5,7 @@
  */
 import { cellBits, countColumns, createTable, FlowTableError, LIMITS, nameSchema, NONE, type FlowTable } from '../model';
 import { coverColumns, cubeToText, forEachCubeColumn, textToCube, type Cube } from './cubes';
-import { checkName, plural } from './names';
+import { checkName, pluralize } from './names';
 import { checkSourceText, collectIssues, splitLines, stripBom, type IssueList } from './source';
 
 /** Options of the KISS2 importer. */
@@ -138,7 +138,7 @@ function readKiss2(lines: string[], name: string, issues: IssueList): FlowTable 
     const want = (ni > 0 ? 1 : 0) + 2 + (no > 0 ? 1 : 0);
     if (fields.length !== want) {
       const at = fields[want] ?? fields[fields.length - 1]!;
-      issues.add(line, fields.length > want ? at.col : head.col, `a transition line has ${plural(fields.length, 'field')}, expected ${want}`, `write \`${ni > 0 ? 'INPUTS ' : ''}CURRENT NEXT${no > 0 ? ' OUTPUTS' : ''}\` with ${plural(ni, 'input character')} and ${plural(no, 'output character')}`);
+      issues.add(line, fields.length > want ? at.col : head.col, `a transition line has ${pluralize(fields.length, 'field')}, expected ${want}`, `write \`${ni > 0 ? 'INPUTS ' : ''}CURRENT NEXT${no > 0 ? ' OUTPUTS' : ''}\` with ${pluralize(ni, 'input character')} and ${pluralize(no, 'output character')}`);
       continue;
     }
     let f = 0;
@@ -149,11 +149,11 @@ function readKiss2(lines: string[], name: string, issues: IssueList): FlowTable 
     const cube = cubeField.text.length === ni ? textToCube(cubeField.text) : null;
     let ok = true;
     if (!cube) {
-      issues.add(line, cubeField.col, `input cube "${cubeField.text}" is not ${plural(ni, 'character')} of 0, 1 and -`, `.i declares ${plural(ni, 'input')}; the leftmost character is the first input`);
+      issues.add(line, cubeField.col, `input cube "${cubeField.text}" is not ${pluralize(ni, 'character')} of 0, 1 and -`, `.i declares ${pluralize(ni, 'input')}; the leftmost character is the first input`);
       ok = false;
     }
     if (outField.text.length !== no || !/^[01-]*$/.test(outField.text)) {
-      issues.add(line, outField.col, `outputs "${outField.text}" are not ${plural(no, 'character')} of 0, 1 and -`, `.o declares ${plural(no, 'output')}`);
+      issues.add(line, outField.col, `outputs "${outField.text}" are not ${pluralize(no, 'character')} of 0, 1 and -`, `.o declares ${pluralize(no, 'output')}`);
       ok = false;
     }
     noteState(cur, line);
@@ -178,7 +178,7 @@ function readKiss2(lines: string[], name: string, issues: IssueList): FlowTable 
   if (sCount !== undefined && stateOrder.length > sCount) {
     const extra = namedOrder[sCount]!;
     const at = firstSeen.get(extra)!;
-    issues.add(at.line, at.col, `state "${extra}" is state number ${sCount + 1}, but \`.s\` declares ${plural(sCount, 'state')}`, `fix \`.s\` at line ${sDecl!.line} (the file names ${plural(stateOrder.length, 'state')})`);
+    issues.add(at.line, at.col, `state "${extra}" is state number ${sCount + 1}, but \`.s\` declares ${pluralize(sCount, 'state')}`, `fix \`.s\` at line ${sDecl!.line} (the file names ${pluralize(stateOrder.length, 'state')})`);
   }
   if (stateOrder.length > LIMITS.states) {
     const extra = namedOrder[LIMITS.states]!;
@@ -186,8 +186,8 @@ function readKiss2(lines: string[], name: string, issues: IssueList): FlowTable 
     issues.add(at.line, at.col, `too many states: ${stateOrder.length} (at most ${LIMITS.states})`, `Quiesce tables have at most ${LIMITS.states} states`);
   }
 
-  const inputs = labelNames(header.get('.ilb'), ni, 'in', 'input', issues);
-  const outputs = labelNames(header.get('.ob'), no, 'out', 'output', issues);
+  const inputs = readLabels(header.get('.ilb'), ni, 'in', 'input', issues);
+  const outputs = readLabels(header.get('.ob'), no, 'out', 'output', issues);
 
   // without `.r` the reset state is the first state the file names
   let reset = namedOrder.length ? stateOrder.indexOf(namedOrder[0]!) : 0;
@@ -243,14 +243,14 @@ function readKiss2(lines: string[], name: string, issues: IssueList): FlowTable 
       const other = origin[at]!;
       let key = '';
       for (let k = 0; k < ni; k++) key += (column >> k) & 1 ? '1' : '0';
-      issues.add(tr.line, tr.next.col, `conflicting transitions for state "${stateOrder[state]}" at inputs ${key || '""'}: line ${other} gives ${describe(t, at, no)}, this line gives ${tr.next.text}${no ? ` ${tr.bits}` : ''}`, 'overlapping lines must give the same next state and outputs; narrow one of the input cubes');
+      issues.add(tr.line, tr.next.col, `conflicting transitions for state "${stateOrder[state]}" at inputs ${key || '""'}: line ${other} gives ${describeCell(t, at, no)}, this line gives ${tr.next.text}${no ? ` ${tr.bits}` : ''}`, 'overlapping lines must give the same next state and outputs; narrow one of the input cubes');
     }
   }
   issues.throwIfAny();
   return t;
 }
 
-function describe(t: FlowTable, cell: number, no: number): string {
+function describeCell(t: FlowTable, cell: number, no: number): string {
   const nx = t.next[cell]!;
   if (nx === NONE) return '-';
   let bits = '';
@@ -258,11 +258,11 @@ function describe(t: FlowTable, cell: number, no: number): string {
   return `${t.states[nx]}${no ? ` ${bits}` : ''}`;
 }
 
-function labelNames(decl: { line: number; col: number; args: Field[] } | undefined, count: number, stem: string, what: string, issues: IssueList): string[] {
+function readLabels(decl: { line: number; col: number; args: Field[] } | undefined, count: number, stem: string, what: string, issues: IssueList): string[] {
   const defaults = Array.from({ length: count }, (_, k) => `${stem}${k}`);
   if (!decl) return defaults;
   if (decl.args.length !== count) {
-    issues.add(decl.line, decl.col, `${plural(decl.args.length, `${what} label`)}, but the header declares ${plural(count, what)}`, `give one label per ${what}`);
+    issues.add(decl.line, decl.col, `${pluralize(decl.args.length, `${what} label`)}, but the header declares ${pluralize(count, what)}`, `give one label per ${what}`);
     return defaults;
   }
   const seen = new Map<string, Field>();

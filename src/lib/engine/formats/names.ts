@@ -39,6 +39,6 @@ export function checkName(name: string): string | undefined {
 }
 
 /** "1 cell", "3 cells". */
-export function plural(n: number, word: string, many = `${word}s`): string {
+export function pluralize(n: number, word: string, many = `${word}s`): string {
   return `${n} ${n === 1 ? word : many}`;
 }

@@ -1,6 +1,6 @@
 /**
  * What every source parser shares: the size and binary checks run before parsing, and a
- * collector of located issues that stops after a fixed number of errors.
+ * collector of locateError issues that stops after a fixed number of errors.
  */
 import { FlowTableError, type EngineIssue } from '../model';
 
@@ -23,7 +23,7 @@ export class IssueList {
     if (this.issues.length >= MAX_ISSUES) throw new IssueCapReached();
   }
 
-  /** Records an issue located by a path rather than a position. */
+  /** Records an issue locateError by a path rather than a position. */
   addAt(where: string, message: string, hint?: string, line?: number, column?: number): void {
     this.issues.push({ where, message, ...(hint ? { hint } : {}), ...(line !== undefined ? { line } : {}), ...(column !== undefined ? { column } : {}) });
     if (this.issues.length >= MAX_ISSUES) throw new IssueCapReached();
@@ -36,7 +36,7 @@ export class IssueList {
 
   /** Throws a FlowTableError carrying every recorded issue, if any. */
   throwIfAny(): void {
-    if (this.issues.length) throw new FlowTableError(sortedByPosition(this.issues));
+    if (this.issues.length) throw new FlowTableError(sortByPosition(this.issues));
   }
 }
 
@@ -53,7 +53,7 @@ export function collectIssues<T>(body: (issues: IssueList) => T): T {
     if (e instanceof IssueCapReached) {
       const last = issues.issues[issues.issues.length - 1]!;
       last.hint = `${last.hint ? `${last.hint}; ` : ''}stopped after ${MAX_ISSUES} problems`;
-      throw new FlowTableError(sortedByPosition(issues.issues));
+      throw new FlowTableError(sortByPosition(issues.issues));
     }
     throw e;
   }
@@ -61,7 +61,7 @@ export function collectIssues<T>(body: (issues: IssueList) => T): T {
   return result;
 }
 
-function sortedByPosition(issues: EngineIssue[]): EngineIssue[] {
+function sortByPosition(issues: EngineIssue[]): EngineIssue[] {
   return issues.every((i) => i.line !== undefined)
     ? [...issues].sort((a, b) => a.line! - b.line! || (a.column ?? 0) - (b.column ?? 0))
     : issues;
@@ -96,7 +96,7 @@ export function countUtf8Bytes(text: string): number {
   return bytes;
 }
 
-function located(text: string, offset: number, message: string, hint: string): FlowTableError {
+function locateError(text: string, offset: number, message: string, hint: string): FlowTableError {
   const { line, column } = offsetToLineColumn(text, offset);
   return new FlowTableError([{ where: `${line}:${column}`, line, column, message, hint }]);
 }
@@ -119,9 +119,9 @@ export function checkSourceText(text: string): void {
     ]);
   }
   const nul = text.indexOf('\u0000');
-  if (nul >= 0) throw located(text, nul, 'the source contains a NUL byte: this looks like a binary file, not a flow table', 'open a .qfl, .json, .kiss2 or .csv text file');
+  if (nul >= 0) throw locateError(text, nul, 'the source contains a NUL byte: this looks like a binary file, not a flow table', 'open a .qfl, .json, .kiss2 or .csv text file');
   const bad = text.indexOf('\ufffd');
-  if (bad >= 0) throw located(text, bad, 'the source is not valid UTF-8 text (found a replacement character)', 'save the file as UTF-8');
+  if (bad >= 0) throw locateError(text, bad, 'the source is not valid UTF-8 text (found a replacement character)', 'save the file as UTF-8');
 }
 
 /** Removes a leading byte-order mark. */

@@ -20,7 +20,7 @@ import {
   type Scenario,
 } from '../model';
 import { coverColumns, cubeToText, forEachCubeColumn, textToCube } from './cubes';
-import { BARE_NAME, checkName, formatName, isKeyword, plural, quoteString, TEXT_KEYWORDS } from './names';
+import { BARE_NAME, checkName, formatName, isKeyword, pluralize, quoteString, TEXT_KEYWORDS } from './names';
 import { checkSourceText, collectIssues, splitLines, stripBom, type IssueList } from './source';
 
 /** Tables with more inputs than this print in the compact `cells` form. */
@@ -116,7 +116,7 @@ function tokenizeLine(text: string, line: number, issues: IssueList): Token[] | 
 }
 
 /** A name token's value, or null (issue recorded) when it is not a valid name. */
-function nameOf(tok: Token, what: string, issues: IssueList): string | null {
+function readName(tok: Token, what: string, issues: IssueList): string | null {
   if (tok.quoted && tok.rest !== '') {
     issues.add(tok.line, tok.restCol, `unexpected "${tok.rest}" after the quoted ${what}`, 'put whitespace between words');
     return null;
@@ -134,7 +134,7 @@ function nameOf(tok: Token, what: string, issues: IssueList): string | null {
 }
 
 /** A plain word token (a key, a cube, a policy), quoted or not. */
-function wordOf(tok: Token, issues: IssueList): string | null {
+function readWord(tok: Token, issues: IssueList): string | null {
   if (tok.quoted && tok.rest !== '') {
     issues.add(tok.line, tok.restCol, `unexpected "${tok.rest}" after a quoted word`, 'put whitespace between words');
     return null;
@@ -249,7 +249,7 @@ function readNameList(stmt: Statement, what: string, limit: number, issues: Issu
     const extra = stmt.args[limit]!;
     issues.add(extra.line, extra.col, `too many ${what}s: ${stmt.args.length} (at most ${limit})`, `Quiesce tables have at most ${limit} ${what}s`);
   }
-  const names = stmt.args.map((t) => nameOf(t, what, issues));
+  const names = stmt.args.map((t) => readName(t, what, issues));
   checkUniqueNames(stmt.args, names, what, issues);
   return names;
 }
@@ -261,7 +261,7 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
   let name: string | null = null;
   if (!flowStmt) {
     if (!broken.has('flow')) issues.add(1, 1, 'missing `flow NAME`', 'the first statement names the table, e.g. `flow door_interlock`');
-  } else if (expectArgs(flowStmt, 1, 'flow NAME', issues)) name = nameOf(flowStmt.args[0]!, 'table name', issues);
+  } else if (expectArgs(flowStmt, 1, 'flow NAME', issues)) name = readName(flowStmt.args[0]!, 'table name', issues);
 
   let description: string | undefined;
   const about = header.get('about');
@@ -289,7 +289,7 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
   const dc = header.get('double-change');
   if (dc && expectArgs(dc, 1, 'double-change POLICY', issues)) {
     const tok = dc.args[0]!;
-    const v = wordOf(tok, issues);
+    const v = readWord(tok, issues);
     if (v !== null) {
       if ((DOUBLE_CHANGE_POLICIES as readonly string[]).includes(v)) doubleChange = v as DoubleChangePolicy;
       else issues.add(tok.line, tok.col, `unknown double-change policy "${v}"`, nearestName(v, [...DOUBLE_CHANGE_POLICIES]) ?? `one of ${DOUBLE_CHANGE_POLICIES.join(', ')}`);
@@ -299,7 +299,7 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
   const pf = header.get('prefix');
   if (pf && expectArgs(pf, 1, 'prefix NAME', issues)) {
     const tok = pf.args[0]!;
-    const v = wordOf(tok, issues);
+    const v = readWord(tok, issues);
     if (v !== null) {
       const r = settingsSchema.shape.prefix.safeParse(v);
       if (r.success) prefix = v;
@@ -321,7 +321,7 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
     const seen = new Map<string, Token>();
     for (const row of rows) {
       const tok = row[0]!;
-      const s = nameOf(tok, 'state', issues);
+      const s = readName(tok, 'state', issues);
       if (s === null) continue;
       const first = seen.get(s);
       if (first) {
@@ -363,7 +363,7 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
     const seenRow = new Map<number, Token>();
     for (const row of rows) {
       const tok = row[0]!;
-      const s = nameOf(tok, 'state', issues);
+      const s = readName(tok, 'state', issues);
       if (s === null) continue;
       const i = stateIndex.get(s);
       if (i === undefined) {
@@ -388,7 +388,7 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
     if (!broken.has('reset')) issues.add(anchor.line, anchor.col, 'missing `reset STATE`', 'name the state the controller starts from, e.g. `reset idle`');
   } else if (expectArgs(resetStmt, 1, 'reset STATE', issues)) {
     const tok = resetStmt.args[0]!;
-    const s = nameOf(tok, 'state', issues);
+    const s = readName(tok, 'state', issues);
     if (s !== null) {
       reset = stateIndex.get(s);
       if (reset === undefined && states.length) unknownState(tok, s);
@@ -407,7 +407,7 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
       issues.add(stmt.keyword.line, stmt.keyword.col, '`scenario` needs a name and input vectors', 'write `scenario "NAME" KEY KEY ...`; the first key is the power-up inputs');
       continue;
     }
-    const sname = wordOf(nameTok, issues);
+    const sname = readWord(nameTok, issues);
     if (sname === null) continue;
     if (sname.length < 1 || sname.length > LIMITS.nameLength) {
       issues.add(nameTok.line, nameTok.col, `a scenario name is 1 to ${LIMITS.nameLength} characters`, 'shorten it');
@@ -427,9 +427,9 @@ function resolve(header: Map<string, Statement>, scenarioStmts: Statement[], sec
     }
     const vectors: string[] = [];
     for (const vt of vecToks) {
-      const v = wordOf(vt, issues);
+      const v = readWord(vt, issues);
       if (v === null) continue;
-      if (shapeOk && !isColumnKey(v, n)) issues.add(vt.line, vt.col, `"${v}" is not a column key of ${plural(n, 'character')} 0 or 1`, keyHint(inputs));
+      if (shapeOk && !isColumnKey(v, n)) issues.add(vt.line, vt.col, `"${v}" is not a column key of ${pluralize(n, 'character')} 0 or 1`, describeKeys(inputs));
       vectors.push(v);
     }
     scenarios.push({ name: sname, inputs: vectors });
@@ -461,7 +461,7 @@ function isColumnKey(v: string, n: number): boolean {
   return true;
 }
 
-function keyHint(inputs: (string | null)[]): string {
+function describeKeys(inputs: (string | null)[]): string {
   return inputs.length ? `character k is input k: ${inputs.map((s) => (s === null ? '?' : formatName(s))).join(' ')}` : 'the table has no inputs, so the only key is ""';
 }
 
@@ -524,7 +524,7 @@ function readSection(
         return null;
       }
       if (bits.length !== m || !/^[01-]*$/.test(bits)) {
-        issues.add(tok.line, bitsCol, `output bits "${bits}" are not ${plural(m, 'character')} of 0, 1 and -`, `one character per output, in the order ${outputsHint(outputs)}`);
+        issues.add(tok.line, bitsCol, `output bits "${bits}" are not ${pluralize(m, 'character')} of 0, 1 and -`, `one character per output, in the order ${formatOutputs(outputs)}`);
         return null;
       }
       for (let k = 0; k < m; k++) {
@@ -543,14 +543,14 @@ function readSection(
     const seenKey = new Map<string, Token>();
     let headerOk = true;
     for (const kt of sectionStmt.args) {
-      const k = wordOf(kt, issues);
+      const k = readWord(kt, issues);
       if (k === null) {
         headerOk = false;
         continue;
       }
       if (!isColumnKey(k, n)) {
         // one report for the header: a wrong width usually repeats in every key
-        if (headerOk) issues.add(kt.line, kt.col, `"${k}" is not a column key of ${plural(n, 'character')} 0 or 1`, keyHint(inputs));
+        if (headerOk) issues.add(kt.line, kt.col, `"${k}" is not a column key of ${pluralize(n, 'character')} 0 or 1`, describeKeys(inputs));
         headerOk = false;
         continue;
       }
@@ -566,7 +566,7 @@ function readSection(
     if (headerOk && seenKey.size !== columns) {
       const missing = grayKeys(n).filter((k) => !seenKey.has(k));
       const kw = sectionStmt.keyword;
-      issues.add(kw.line, kw.col, `the grid header lacks ${plural(missing.length, 'column key')}: ${missing.slice(0, 8).map(fmtKey).join(' ')}${missing.length > 8 ? ' ...' : ''}`, `list each of the ${columns} column keys once, e.g. \`grid ${grayKeys(n).slice(0, 4).map(fmtKey).join(' ')}${columns > 4 ? ' ...' : ''}\``);
+      issues.add(kw.line, kw.col, `the grid header lacks ${pluralize(missing.length, 'column key')}: ${missing.slice(0, 8).map(formatKey).join(' ')}${missing.length > 8 ? ' ...' : ''}`, `list each of the ${columns} column keys once, e.g. \`grid ${grayKeys(n).slice(0, 4).map(formatKey).join(' ')}${columns > 4 ? ' ...' : ''}\``);
       headerOk = false;
     }
     for (const row of rows) {
@@ -576,7 +576,7 @@ function readSection(
       if (!headerOk) continue;
       const cellToks = row.slice(1);
       if (cellToks.length !== keyCols.length) {
-        issues.add(head.line, head.col, `grid row has ${plural(cellToks.length, 'cell')}, the header has ${plural(keyCols.length, 'column')}`, 'write one cell per header column; `-` marks an unspecified cell');
+        issues.add(head.line, head.col, `grid row has ${pluralize(cellToks.length, 'cell')}, the header has ${pluralize(keyCols.length, 'column')}`, 'write one cell per header column; `-` marks an unspecified cell');
         continue;
       }
       cellToks.forEach((ct, i) => {
@@ -596,17 +596,17 @@ function readSection(
   for (const row of rows) {
     const head = row[0]!;
     if (row.length !== 3) {
-      issues.add(head.line, head.col, `a \`cells\` line is STATE CUBE CELL, found ${plural(row.length, 'word')}`, `e.g. \`${formatName(head.value)} ${'-'.repeat(n) || '""'} NEXT${m ? `/${'-'.repeat(m)}` : ''}\``);
+      issues.add(head.line, head.col, `a \`cells\` line is STATE CUBE CELL, found ${pluralize(row.length, 'word')}`, `e.g. \`${formatName(head.value)} ${'-'.repeat(n) || '""'} NEXT${m ? `/${'-'.repeat(m)}` : ''}\``);
       continue;
     }
     const s = rowStates.get(row);
     const cubeTok = row[1]!;
-    const cubeText = wordOf(cubeTok, issues);
+    const cubeText = readWord(cubeTok, issues);
     const cell = parseCell(row[2]!);
     if (cubeText === null) continue;
     const cube = cubeText.length === n ? textToCube(cubeText) : null;
     if (!cube) {
-      issues.add(cubeTok.line, cubeTok.col, `cube "${cubeText}" is not ${plural(n, 'character')} of 0, 1 and -`, `${keyHint(inputs)}; \`-\` covers both values`);
+      issues.add(cubeTok.line, cubeTok.col, `cube "${cubeText}" is not ${pluralize(n, 'character')} of 0, 1 and -`, `${describeKeys(inputs)}; \`-\` covers both values`);
       continue;
     }
     if (s === undefined || !cell) continue;
@@ -627,28 +627,28 @@ function readSection(
     if (conflict >= 0) {
       const at = s * columns + conflict;
       const ct = row[2]!;
-      const was = cellText(next[at]!, care[at]!, value[at]!, m, stateIndex);
-      issues.add(ct.line, ct.col, `cell (${formatName(head.value)}, ${fmtKey(keyOf(conflict, n))}) is already "${was}" from line ${origin[at]}`, 'overlapping cubes must give the same cell; narrow one of the cubes');
+      const was = formatCellText(next[at]!, care[at]!, value[at]!, m, stateIndex);
+      issues.add(ct.line, ct.col, `cell (${formatName(head.value)}, ${formatKey(keyOfColumn(conflict, n))}) is already "${was}" from line ${origin[at]}`, 'overlapping cubes must give the same cell; narrow one of the cubes');
     }
   }
   return { next, care, value };
 }
 
-function outputsHint(outputs: (string | null)[]): string {
+function formatOutputs(outputs: (string | null)[]): string {
   return outputs.map((s) => (s === null ? '?' : formatName(s))).join(' ');
 }
 
-function keyOf(column: number, n: number): string {
+function keyOfColumn(column: number, n: number): string {
   let s = '';
   for (let k = 0; k < n; k++) s += (column >> k) & 1 ? '1' : '0';
   return s;
 }
 
-function fmtKey(k: string): string {
+function formatKey(k: string): string {
   return k === '' ? '""' : k;
 }
 
-function cellText(next: number, care: number, value: number, m: number, stateIndex: Map<string, number>): string {
+function formatCellText(next: number, care: number, value: number, m: number, stateIndex: Map<string, number>): string {
   if (next === NONE) return '-';
   let name = '';
   for (const [s, i] of stateIndex) if (i === next) name = s;
@@ -691,7 +691,7 @@ export function tableToText(t: FlowTable): string {
   out.push(`reset ${formatName(t.states[t.reset]!)}`);
   out.push(`double-change ${t.settings.doubleChange}`);
   if (t.settings.prefix !== undefined) out.push(`prefix ${t.settings.prefix}`);
-  for (const sc of t.scenarios) out.push(['scenario', quoteString(sc.name), ...sc.inputs.map(fmtKey)].join(' '));
+  for (const sc of t.scenarios) out.push(['scenario', quoteString(sc.name), ...sc.inputs.map(formatKey)].join(' '));
   out.push('');
   const cols = countColumns(n);
   const printedStates = t.states.map(formatName);
@@ -699,10 +699,10 @@ export function tableToText(t: FlowTable): string {
   if (!compact) {
     // widths depend on names only, so changing one cell changes one line
     const keys = grayKeys(n);
-    const cellW = Math.max(1, ...keys.map((k) => fmtKey(k).length), ...printedStates.map((s) => s.length + (m ? m + 1 : 0)));
+    const cellW = Math.max(1, ...keys.map((k) => formatKey(k).length), ...printedStates.map((s) => s.length + (m ? m + 1 : 0)));
     const lead = Math.max(6, labelW + 4);
     const widths = keys.map(() => cellW);
-    out.push(`${'grid'.padEnd(lead)}${joinAligned(keys.map(fmtKey), widths)}`.trimEnd());
+    out.push(`${'grid'.padEnd(lead)}${joinAligned(keys.map(formatKey), widths)}`.trimEnd());
     t.states.forEach((_, s) => {
       const cells = keys.map((k) => printCell(t, s * cols + keyToColumn(k)));
       out.push(`  ${printedStates[s]!.padEnd(lead - 2)}${joinAligned(cells, widths)}`.trimEnd());
@@ -732,13 +732,13 @@ export function tableToText(t: FlowTable): string {
           lines.push({ size: free, cube: cubeToText(cube, n), text });
         }
       }
-      lines.sort((a, b) => b.size - a.size || cmp(a.cube, b.cube) || cmp(a.text, b.text));
+      lines.sort((a, b) => b.size - a.size || compareStrings(a.cube, b.cube) || compareStrings(a.text, b.text));
       for (const l of lines) out.push(`  ${printedStates[s]!.padEnd(labelW)}  ${l.cube}  ${l.text}`);
     });
   }
   return `${out.join('\n')}\n`;
 }
 
-function cmp(a: string, b: string): number {
+function compareStrings(a: string, b: string): number {
   return a < b ? -1 : a > b ? 1 : 0;
 }

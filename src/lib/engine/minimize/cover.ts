@@ -210,19 +210,28 @@ function findGreedyIndices(p: CoverProblem): { chosen: number[] } | { missing: B
 /**
  * Heuristic closed cover from a pool of compatibles that may be incomplete: runs the greedy
  * cover, and whenever a requirement has no candidate, adds that class (a compatible, with
- * its class set from `classSetOf`) to the pool and tries again.
+ * its class set from `classSetOf`) to the pool and tries again. Undefined when the deadline
+ * or the round limit stops it first.
  */
-export function searchHeuristicCover(n: number, pool: CompatibleClass[], classSetOf: (states: Bitset) => Bitset[]): CoverResult {
+export function searchHeuristicCover(
+  n: number,
+  pool: CompatibleClass[],
+  classSetOf: (states: Bitset) => Bitset[],
+  limits: { deadline?: number; rounds?: number } = {},
+): CoverResult | undefined {
   const start = now();
   const cands = pool.slice();
-  for (let round = 0; ; round++) {
+  const rounds = limits.rounds ?? 64;
+  for (let round = 0; round < rounds; round++) {
+    if (limits.deadline !== undefined && now() > limits.deadline) return undefined;
     const p = buildProblem(n, cands);
     const r = findGreedyIndices(p);
     if ('chosen' in r) {
-      return { chosen: r.chosen, classes: r.chosen.map((i) => bitsetToList(cands[i]!.states)), exact: false, lowerBound: 0, nodes: round, ms: now() - start };
+      return { chosen: r.chosen, classes: r.chosen.map((i) => bitsetToList(cands[i]!.states)), exact: false, lowerBound: 0, nodes: 0, ms: now() - start };
     }
     cands.push({ states: r.missing, size: countBits(r.missing), classSet: classSetOf(r.missing) });
   }
+  return undefined;
 }
 
 /**

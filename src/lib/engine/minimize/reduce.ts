@@ -15,6 +15,7 @@ import {
 } from './compatibles';
 import { DEFAULT_NODE_BUDGET, DEFAULT_TIME_BUDGET_MS, searchHeuristicCover, searchMinimumCover } from './cover';
 import { buildImplicationChart, type ImplicationChart } from './implication-chart';
+import { findClosedPartition } from './partition';
 
 /** Budgets of a minimization; past them the result is a heuristic closed cover (`exact: false`). */
 export interface MinimizeOptions {
@@ -70,29 +71,30 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
   const space = createCompatibleSpace(t);
   const primes = maximal.complete ? enumeratePrimeCompatibles(space, maximal.sets, { limit: options.primeLimit ?? 200_000, deadline }) : undefined;
 
-  let classes: number[][];
-  let exact: boolean;
+  let classes: number[][] | undefined;
+  let exact = false;
   let nodes = 0;
-  let method: CoverMethod;
+  let method: CoverMethod = 'heuristic';
   if (primes?.complete) {
     const r = searchMinimumCover(n, primes.primes, {
       nodeBudget: options.nodeBudget ?? DEFAULT_NODE_BUDGET,
       timeBudgetMs: Math.max(0, deadline - now()),
     });
-    classes = r.classes;
-    exact = r.exact;
     nodes = r.nodes;
-    method = r.exact ? 'exact' : 'budget';
-    if (classes.length === 0) {
-      // the search stopped before even the greedy start could be built
-      classes = searchHeuristicCover(n, withClassSets(space, maximal.sets), (b) => computeClassSet(space, b)).classes;
+    if (r.classes.length > 0) {
+      classes = r.classes;
+      exact = r.exact;
+      method = r.exact ? 'exact' : 'budget';
     }
   } else {
     const pool = withClassSets(space, maximal.sets);
     if (primes) pool.push(...primes.primes);
-    classes = searchHeuristicCover(n, pool, (b) => computeClassSet(space, b)).classes;
-    exact = false;
-    method = 'heuristic';
+    classes = searchHeuristicCover(n, pool, (b) => computeClassSet(space, b), { deadline })?.classes;
+  }
+  if (!exact) {
+    // the merge heuristic is polynomial and never worse than one row per state
+    const partition = findClosedPartition(t, chart, { deadline: Math.max(deadline, now() + 50) });
+    if (!classes || partition.length < classes.length) classes = partition;
   }
   classes = classes.map((c) => c.slice().sort((a, b) => a - b)).sort(compareLists);
   const table = buildReducedTable(t, classes);

@@ -52,5 +52,5 @@ export const POST: APIRoute = (ctx) =>
       ...(upload ? { upload } : {}),
       ...(body.description !== undefined ? { description: body.description } : {}),
     });
-    return json({ controller: { id: c.id, slug: c.slug, name: c.name, head: c.headRevision }, url: `/w/${member.workspace.slug}/controllers/${c.slug}` }, 201);
+    return json({ controller: { id: c.id, slug: c.slug, name: c.name, head: c.headRevision }, url: `/w/${member.workspace.slug}/c/${c.slug}` }, 201);
   });

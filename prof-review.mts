@@ -1,0 +1,17 @@
+import { openDatabase } from '/work/main/src/lib/server/db';
+import { buildWorld, addController } from '/work/main/tests/lib/server/support/review-world';
+import { resolveBundle, requireControllerAccess, resolveRevision } from '/work/main/src/lib/server/downloads';
+import { sql } from 'drizzle-orm';
+const h = await openDatabase();
+const w = await buildWorld(h.db);
+const c = await addController(w, 'Prof');
+const creds = { bearer: w.key, userId: null };
+const p = { workspace: w.slug, controller: c.slug, rev: 'latest', target: 'c' as const, generator: 'pinned' as const };
+await resolveBundle(h.db, creds, p);
+const time = async (label: string, fn: () => Promise<unknown>, n = 50) => { const t0 = performance.now(); for (let i = 0; i < n; i++) await fn(); console.log(label, ((performance.now() - t0) / n).toFixed(2), 'ms'); };
+await time('resolveBundle', () => resolveBundle(h.db, creds, p));
+await time('access', () => requireControllerAccess(h.db, creds, w.slug, c.slug));
+await time('revision', () => resolveRevision(h.db, c, { kind: 'latest' }));
+await time('select 1', () => h.db.execute(sql`select 1`));
+await time('simple select', () => h.db.execute(sql`select * from ci_keys where key_hash = 'x'`));
+await h.close();

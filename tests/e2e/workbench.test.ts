@@ -1,0 +1,254 @@
+/**
+ * The controller workbench in Chromium against the built server: create by upload, edit in the
+ * grid and in the source, fix a finding, simulate, reduce, save, download and verify the C
+ * bundle, and the viewer's read-only view. Screenshots of each view go to test-output/workbench/.
+ */
+import { execFileSync } from 'node:child_process';
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import JSZip from 'jszip';
+import type { Page } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { launchBrowser, type BrowserSession } from './support/browser';
+import { startServer, type TestServer } from './support/server';
+import { DEMO_ACCOUNTS, DEMO_WORKSPACE } from '../../src/lib/server/demo/accounts';
+
+const root = resolve(import.meta.dirname, '../..');
+const shots = join(root, 'test-output', 'workbench');
+const origin = () => server.url;
+// Gated (D) latch primitive flow table: check-data/README.md worked example (Mano and Ciletti,
+// Digital Design, asynchronous sequential circuits chapter; encoded from memory).
+const GATED_LATCH = readFileSync(join(root, 'tests/fixtures/formats/gated-latch.qfl'), 'utf8');
+const account = (role: string) => DEMO_ACCOUNTS.find((a) => a.role === role)!;
+const ws = DEMO_WORKSPACE.slug;
+
+let server: TestServer;
+let browser: BrowserSession;
+let page: Page;
+
+/** Signs in through the sign-in form and waits until it has left it. */
+async function signIn(p: Page, email: string, password: string): Promise<void> {
+  await p.goto(`${origin()}/auth/sign-in`);
+  await p.locator('input[name="email"]').first().fill(email);
+  await p.locator('input[name="password"]').first().fill(password);
+  await Promise.all([p.waitForURL((u) => !u.pathname.startsWith('/auth/sign-in'), { timeout: 30_000 }), p.locator('form:has(input[type="password"]) button[type="submit"]').first().click()]);
+}
+
+async function shot(name: string, p: Page = page): Promise<void> {
+  await p.screenshot({ path: join(shots, `${name}.png`), fullPage: false });
+}
+
+/** Text of the Monaco source editor (its rendered lines, spaces normalized). */
+async function sourceText(p: Page = page): Promise<string> {
+  return (await p.locator('[data-testid="source-editor"] .view-lines').innerText()).replace(/\u00a0/g, ' ');
+}
+
+async function openView(label: string, p: Page = page): Promise<void> {
+  await p.getByRole('tab', { name: label, exact: true }).click();
+}
+
+/** The text a grid cell shows (by state name and column key). */
+async function gridCell(state: string, key: string, p: Page = page): Promise<string> {
+  const grid = p.locator('[data-testid="flow-grid"]').first();
+  const label = await grid.getByRole('gridcell').evaluateAll(
+    (cells, [s, k]) => {
+      const wanted = `${s} at `;
+      const hit = cells.find((c) => {
+        const l = c.getAttribute('aria-label') ?? '';
+        if (!l.startsWith(wanted)) return false;
+        const bits = [...l.slice(wanted.length).matchAll(/=(\d)/g)].map((m) => m[1]).join('');
+        return bits === k;
+      });
+      return hit ? (hit.textContent ?? '').replace(/\s+/g, '') : null;
+    },
+    [state, key] as const,
+  );
+  return label ?? '(no cell)';
+}
+
+describe('controller workbench (Chromium, built server)', () => {
+  beforeAll(async () => {
+    mkdirSync(shots, { recursive: true });
+    server = await startServer();
+    browser = await launchBrowser();
+    page = await browser.newPage();
+    await page.setViewportSize({ width: 1440, height: 1000 });
+    page.on('pageerror', (e) => console.error('[page error]', e.message));
+    await signIn(page, account('editor').email, account('editor').password);
+  }, 900_000);
+
+  afterAll(async () => {
+    await browser?.close();
+    await server?.stop();
+  });
+
+  it('rejects a broken upload with line:column, then creates a controller by upload', async () => {
+    await page.goto(`${origin()}/w/${ws}/controllers`);
+    await page.getByTestId('controller-list').waitFor();
+    await shot('01-controller-list');
+    await page.getByTestId('new-controller').click();
+    await page.getByTestId('kind-upload').check();
+    const broken = GATED_LATCH.replace('  b   -    a/-  b/1  e/-', '  b   -    a/-  b/1  x/-');
+    await page.getByTestId('upload-file').setInputFiles({ name: 'latch.qfl', mimeType: 'text/plain', buffer: Buffer.from(broken) });
+    await expect.poll(() => page.getByTestId('upload-issues').innerText()).toMatch(/\d+:\d+: unknown state "x"/);
+    await shot('02-upload-error');
+    await page.getByTestId('upload-file').setInputFiles({ name: 'gated-latch.qfl', mimeType: 'text/plain', buffer: Buffer.from(GATED_LATCH) });
+    await page.locator('input[placeholder^="e.g. Loading"]').fill('Gated latch');
+    await Promise.all([page.waitForURL(/\/c\/gated-latch$/), page.getByTestId('create-submit').click()]);
+    await page.getByTestId('workbench').waitFor();
+    expect(await page.getByTestId('base-revision').innerText()).toContain('r1');
+    expect(await gridCell('a', '01')).toBe('a/0');
+    await shot('03-table');
+  });
+
+  it('edits a cell in the grid and sees the source update, and the reverse', async () => {
+    // Grid → source: the unspecified cell (a, 10) becomes "d/-".
+    await page.locator('[data-cell]').first().click();
+    const grid = page.getByRole('grid');
+    // Move to row a, column 10 (Gray order 00 01 11 10: the fourth column).
+    await grid.press('Home');
+    for (let i = 0; i < 3; i++) await grid.press('ArrowRight');
+    await page.keyboard.type('d');
+    await page.getByTestId('cell-editor').fill('d/-');
+    await page.getByTestId('cell-editor').press('Enter');
+    expect(await gridCell('a', '10')).toBe('d/-');
+    await openView('Source');
+    await expect.poll(() => sourceText(), { timeout: 30_000 }).toMatch(/a\s+c\/-\s+a\/0\s+b\/-\s+d\/-/);
+    await shot('04-source');
+    // Source → grid: rewrite the source so that (a, 10) is unspecified again.
+    const current = await sourceText();
+    const next = current.replace(/(\n\s*a\s+c\/-\s+a\/0\s+b\/-\s+)d\/-/, '$1-');
+    expect(next).not.toBe(current);
+    await page.locator('[data-testid="source-editor"] .view-lines').click();
+    await page.keyboard.press('Control+A');
+    await page.keyboard.insertText(next);
+    await openView('Table');
+    await expect.poll(() => gridCell('a', '10')).toBe('·');
+  });
+
+  it('fixes a finding through its action', async () => {
+    // check-data README: of 12 single-input changes, 8 need the transient cell's Q filled.
+    const panel = page.getByTestId('findings-panel');
+    await expect.poll(() => panel.locator('[data-finding-code="output-hazard"]').count()).toBe(8);
+    await panel.locator('[data-finding-code="output-hazard"] button').first().click();
+    await shot('05-finding-path');
+    await panel.locator('[data-finding-code="output-hazard"]').first().getByTestId('fix-action').click();
+    await expect.poll(() => page.getByTestId('notice').innerText()).toMatch(/Filled 8 don't-care outputs/);
+    expect(await panel.locator('[data-finding-code="output-hazard"]').count()).toBe(0);
+    // the power-up fix adds the missing cell
+    await panel.locator('[data-finding-code="unspecified-power-up"]').getByTestId('fix-action').click();
+    expect(await gridCell('a', '10')).toMatch(/^d\//);
+    expect(await panel.locator('[data-finding-code="unspecified-power-up"]').count()).toBe(0);
+  });
+
+  it('simulates three steps and shows them in the waveform', async () => {
+    await openView('Run');
+    await page.getByTestId('power-up').click();
+    // power-up at D=0 G=0 settles a → c; then G, D, G change one at a time.
+    await page.keyboard.press('2');
+    await page.keyboard.press('1');
+    await page.keyboard.press('2');
+    const wave = page.getByTestId('waveform');
+    await expect.poll(() => wave.getAttribute('data-steps')).toBe('4');
+    const states = await wave.locator('[data-state]').evaluateAll((els) => els.map((e) => e.getAttribute('data-state')));
+    expect(states).toEqual(['c', 'a', 'b', 'e']);
+    const q = await wave.locator('[data-lane="out:Q"] [data-value]').evaluateAll((els) => els.map((e) => e.getAttribute('data-value')));
+    expect(q).toEqual(['0', '0', '1', '1']);
+    await shot('06-run');
+  });
+
+  it('shows the map', async () => {
+    await openView('Map');
+    await page.getByTestId('state-map').locator('[data-state-node]').first().waitFor({ timeout: 30_000 });
+    expect(await page.locator('[data-state-node]').count()).toBe(6);
+    await shot('07-map');
+  });
+
+  it('reduces the gated latch to 2 rows and applies it as a draft', async () => {
+    await openView('Reduce');
+    await page.getByTestId('run-reduce').click();
+    // check-data README: reduces to 2 rows; maximal compatibles {a, b}, {a, c, d}, {b, e, f}.
+    await expect.poll(() => page.getByTestId('reduce-summary').innerText()).toBe('6 → 2 rows');
+    const maximal = await page.getByTestId('maximal-compatibles').innerText();
+    for (const m of ['{a, b}', '{a, c, d}', '{b, e, f}']) expect(maximal).toContain(m);
+    await shot('08-reduce');
+    await page.getByTestId('apply-reduction').click();
+    await expect.poll(() => page.getByRole('grid').getAttribute('aria-label')).toMatch(/2 states/);
+  });
+
+  it('shows fill and settings views', async () => {
+    await openView('Fill');
+    await page.getByTestId('fill-panel').waitFor();
+    await shot('09-fill');
+    await openView('Settings');
+    await page.getByTestId('settings-panel').waitFor();
+    await shot('10-settings');
+  });
+
+  it('saves a new revision', async () => {
+    await page.getByTestId('save-open').click();
+    await page.getByTestId('save-dialog').locator('textarea').fill('reduce to two rows, fill outputs');
+    await page.getByTestId('save-submit').click();
+    await expect.poll(() => page.getByTestId('notice').innerText()).toMatch(/Saved as r2/);
+    expect(await page.getByTestId('base-revision').innerText()).toContain('r2');
+    expect(await page.getByTestId('dirty-badge').count()).toBe(0);
+  });
+
+  it('downloads the C zip, which unzips and passes its own tests with gcc', async () => {
+    await openView('Build');
+    await page.getByTestId('target-c').click();
+    await page.getByTestId('generated-files').locator('li').first().waitFor({ timeout: 60_000 });
+    expect(await page.getByTestId('safety-caution').innerText()).toContain('Generated code is not certified');
+    await page.getByTestId('generated-preview').locator('.view-lines').waitFor({ timeout: 30_000 });
+    await shot('11-build');
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByTestId('download-zip').click()]);
+    const zipPath = await download.path();
+    const zip = await JSZip.loadAsync(readFileSync(zipPath));
+    const dir = mkdtempSync(join(tmpdir(), 'quiesce-wb-zip-'));
+    try {
+      const names = Object.keys(zip.files).filter((n) => !zip.files[n]!.dir);
+      expect(names).toContain('Makefile');
+      for (const n of names) {
+        const p = join(dir, n);
+        mkdirSync(dirname(p), { recursive: true });
+        writeFileSync(p, await zip.files[n]!.async('nodebuffer'));
+      }
+      const out = execFileSync('make', ['test'], { cwd: dir, encoding: 'utf8', timeout: 120_000 });
+      expect(out).toMatch(/\b\d+ passed, 0 failed\b/);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('shows a viewer no edit controls', async () => {
+    const viewer = await launchBrowser();
+    const vp = await viewer.newPage();
+    await vp.setViewportSize({ width: 1440, height: 1000 });
+    await signIn(vp, account('viewer').email, account('viewer').password);
+    await vp.goto(`${origin()}/w/${ws}/c/gated-latch`);
+    await vp.getByTestId('workbench').waitFor();
+    expect(await vp.getByTestId('workbench').getAttribute('data-role')).toBe('viewer');
+    expect(await vp.getByTestId('save-open').count()).toBe(0);
+    expect(await vp.getByRole('button', { name: /undo|redo|\+ state|\+ input|\+ output|make stable|clear cell/i }).count()).toBe(0);
+    expect(await vp.getByTestId('fix-action').count()).toBe(0);
+    await vp.getByRole('grid').focus();
+    await vp.keyboard.press('Enter');
+    expect(await vp.getByTestId('cell-editor').count()).toBe(0);
+    await openView('Settings', vp);
+    expect(await vp.getByTestId('settings-panel').locator('input, select, textarea').count()).toBe(0);
+    await openView('Source', vp);
+    await vp.locator('[data-testid="source-editor"] .view-lines').waitFor({ timeout: 30_000 });
+    await shot('12-viewer-source', vp);
+    await vp.goto(`${origin()}/w/${ws}/controllers`);
+    await vp.getByTestId('controller-list').waitFor();
+    expect(await vp.getByTestId('new-controller').count()).toBe(0);
+    expect(await vp.getByRole('button', { name: /^(rename|archive)$/i }).count()).toBe(0);
+    viewer.assertLoopbackOnly();
+    await viewer.close();
+  });
+
+  it('made no request outside loopback', () => {
+    expect(() => browser.assertLoopbackOnly()).not.toThrow();
+  });
+});

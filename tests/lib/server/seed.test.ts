@@ -1,0 +1,67 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { asc, eq } from 'drizzle-orm';
+import { signIn } from '../../../src/lib/server/accounts';
+import { ciKeyToHash } from '../../../src/lib/server/ci-keys';
+import type { DatabaseHandle } from '../../../src/lib/server/db';
+import { DEMO_ACCOUNTS, DEMO_CI_KEY, DEMO_WORKSPACE } from '../../../src/lib/server/demo/accounts';
+import { DEMO_CONTROLLERS } from '../../../src/lib/server/demo/controllers';
+import { seedDemo } from '../../../src/lib/server/demo/seed';
+import { requireMember } from '../../../src/lib/server/permissions';
+import { ciKeys, controllers, revisions } from '../../../src/lib/server/schema';
+import { analyzeTable } from '../../../src/lib/engine/analyze';
+import { parseText } from '../../../src/lib/engine/formats/text';
+import { interchangeToTable, tablesEqual } from '../../../src/lib/engine/model';
+import { BACKENDS } from './support/backends';
+
+describe.each(BACKENDS)('demo seed on $name', (backend) => {
+  let handle: DatabaseHandle;
+  beforeAll(async () => {
+    handle = await backend.open();
+    await seedDemo(handle.db);
+  });
+  afterAll(async () => {
+    await handle?.close();
+  });
+
+  it('creates one demo account per role, each able to sign in with its documented password', async () => {
+    expect(DEMO_ACCOUNTS.map((a) => a.role)).toEqual(['owner', 'editor', 'reviewer', 'viewer']);
+    for (const account of DEMO_ACCOUNTS) {
+      const { user } = await signIn(handle.db, { email: account.email, password: account.password }, { clientKey: `seed-${backend.name}` });
+      expect(user.emailVerified).toBe(true);
+      const member = await requireMember(handle.db, user.id, DEMO_WORKSPACE.slug);
+      expect(member.role).toBe(account.role);
+      expect(member.workspace.name).toBe('Halvorsen Machine Works');
+    }
+  });
+
+  it('stores r1 of each demo controller with canonical source, interchange and findings counts', async () => {
+    const rows = await handle.db
+      .select({ slug: controllers.slug, head: controllers.headRevision, revision: revisions })
+      .from(controllers)
+      .innerJoin(revisions, eq(revisions.controllerId, controllers.id))
+      .orderBy(asc(controllers.slug));
+    expect(rows.map((r) => [r.slug, r.head, r.revision.number])).toEqual([
+      ['door-interlock', 1, 1],
+      ['jog-wheel', 1, 1],
+      ['two-hand-press', 1, 1],
+    ]);
+    for (const row of rows) {
+      const demo = DEMO_CONTROLLERS.find((d) => d.slug === row.slug)!;
+      const expected = interchangeToTable(demo.doc);
+      // The stored source is canonical text that parses back to the same table.
+      expect(tablesEqual(parseText(row.revision.source), expected)).toBe(true);
+      expect(tablesEqual(interchangeToTable(row.revision.interchange), expected)).toBe(true);
+      expect(row.revision.findings).toEqual(analyzeTable(expected).counts);
+      expect(row.revision.findings.error).toBe(0);
+    }
+  });
+
+  it('stores the documented demo CI key only as its hash', async () => {
+    const keys = await handle.db.select().from(ciKeys);
+    expect(keys).toHaveLength(1);
+    expect(keys[0]!.keyHash).toBe(ciKeyToHash(DEMO_CI_KEY.value));
+    expect(keys[0]!.keyHash).not.toContain(DEMO_CI_KEY.value);
+    expect(DEMO_CI_KEY.value.startsWith(keys[0]!.prefix)).toBe(true);
+    expect(keys[0]!.controllerIds).toBeNull();
+  });
+});
