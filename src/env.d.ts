@@ -11,7 +11,7 @@ declare namespace App {
     session: import('./lib/server/session').SessionInfo | null;
     /** Demo mode (QUIESCE_DEMO): demo accounts are listed and mail is shown in the outbox. */
     demo: boolean;
-    /** The local outbox page is available (mail is captured, not delivered). */
+    /** The local outbox page is available (demo mode, mail captured instead of delivered). */
     outbox: boolean;
   }
 }

@@ -83,14 +83,20 @@ async function answerError(context: APIContext, error: unknown, isApi: boolean):
   return plainPage(apiError.status, 'Request not accepted', apiError.message);
 }
 
+let warnedAboutMail = false;
+
 export const onRequest = defineMiddleware(async (context, next) => {
   const config = readConfig();
+  if (config.captureMail && !config.demo && !warnedAboutMail) {
+    warnedAboutMail = true;
+    console.warn('[quiesce] SMTP_URL is not set and demo mode is off: e-mail is stored in the outbox table only and nobody receives it.');
+  }
   const { pathname } = context.url;
   const isApi = pathname.startsWith('/api/');
   context.locals.user = null;
   context.locals.session = null;
   context.locals.demo = config.demo;
-  context.locals.outbox = config.captureMail;
+  context.locals.outbox = config.showOutbox;
   try {
     const db = await getDb();
     context.locals.db = db;

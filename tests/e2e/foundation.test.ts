@@ -32,7 +32,7 @@ describe('foundation e2e (built server, Chromium)', () => {
     server = await startServer();
     browser = await launchBrowser();
     page = await browser.newPage();
-  });
+  }, 900_000); // may include the first build of the app
   afterAll(async () => {
     await browser?.close();
     await server?.stop();

@@ -9,6 +9,7 @@
 import { and, asc, eq, inArray, isNull, lt, or, sql } from 'drizzle-orm';
 import { z } from 'zod';
 import { recordAudit } from './audit';
+import { bumpDownloadCache } from './download-cache';
 import type { Db } from './db';
 import { fail } from './errors';
 import { newId, newToken, sha256Hex } from './ids';
@@ -159,6 +160,7 @@ export async function revokeCiKey(db: Db, member: MemberContext, keyId: string):
       detail: { name: row.name, prefix: row.prefix },
     });
   });
+  await bumpDownloadCache(db); // refused from the very next request on
 }
 
 /** A key that authenticated a request. */

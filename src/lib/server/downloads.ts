@@ -8,6 +8,7 @@ import { and, asc, desc, eq, isNull, sql } from 'drizzle-orm';
 import { z } from 'zod';
 import { recordAudit } from './audit';
 import { bundleFilename, ensureBundle, readBundleBytes, CURRENT_GENERATOR_VERSION, type BundleMeta, type GeneratorChoice } from './bundles';
+import { getCachedDownload, readDownloadEpoch, setCachedDownload } from './download-cache';
 import { ciKeyRowToPrincipal, ciKeyToHash, CI_KEY_PREFIX, keyCanRead, recordCiKeyUse, type CiKeyPrincipal } from './ci-keys';
 import type { Db } from './db';
 import { fail } from './errors';
@@ -214,6 +215,13 @@ export async function resolveBundle(
 ): Promise<ResolvedBundle> {
   const spec = parseRevSpec(params.rev);
   if (!spec) throw fail.notFound('Revision');
+  // CI keys hit the same URLs over and over: serve their resolutions from the epoch-checked cache.
+  const cacheKey = credentials.bearer !== null ? [ciKeyToHash(credentials.bearer), params.workspace, params.controller, params.rev, params.target, params.generator].join('|') : null;
+  if (cacheKey) {
+    const hit = getCachedDownload<ResolvedBundle>(cacheKey);
+    if (hit) return hit;
+  }
+  const epoch = readDownloadEpoch();
   const access = await requireControllerAccess(db, credentials, params.workspace, params.controller, 'bundle.download');
   const resolved = await resolveRevisionWithBundle(db, access.controller, spec, { target: params.target, choice: params.generator });
   let bundle = resolved.bundle;
@@ -222,12 +230,14 @@ export async function resolveBundle(
     if (!rev) throw fail.notFound('Revision');
     bundle = await ensureBundle(db, rev, params.target, params.generator);
   }
-  return {
+  const result: ResolvedBundle = {
     access,
     revision: { id: resolved.id, number: resolved.number, release: resolved.release },
     bundle,
     filename: bundleFilename(access.controller.slug, resolved.number, params.target),
   };
+  if (cacheKey) setCachedDownload(cacheKey, epoch, result);
+  return result;
 }
 
 /** Records a download: throttled key use for CI keys, an audit entry for people. */

@@ -11,6 +11,7 @@ import { z } from 'zod';
 import { recordAudit } from './audit';
 import { ensureAllBundles, loadBundleHashes } from './bundles';
 import type { Db } from './db';
+import { bumpDownloadCache } from './download-cache';
 import { ApiError, fail, toApiError } from './errors';
 import { releaseLabelSchema } from './downloads';
 import { newId } from './ids';
@@ -129,6 +130,7 @@ export async function publishRelease(
   } catch (error) {
     throw toApiError(error); // a label taken by a concurrent publish: the unique index answers 409
   }
+  await bumpDownloadCache(db); // latest-release moves on
   const release = (await listReleases(db, controller.id)).find((r) => r.id === id)!;
   return { release, warnings };
 }

@@ -11,6 +11,7 @@ import { tableToText } from '../engine/formats/text';
 import { recordAudit } from './audit';
 import type { Db } from './db';
 import { ApiError, fail } from './errors';
+import { bumpDownloadCache } from './download-cache';
 import { newId } from './ids';
 import { supersedePendingReviews } from './review-states';
 import { controllers, revisions, users, type FindingsSummary, type RevisionRow } from './schema';
@@ -129,6 +130,7 @@ export async function createRevisionFromTable(db: Db, input: Omit<CreateRevision
     });
     return inserted!;
   });
+  await bumpDownloadCache(db); // `latest` now names the new revision
   return row;
 }
 

@@ -32,10 +32,17 @@ export function formatName(name: string): string {
   return isBareName(name) ? name : quoteString(name);
 }
 
+const checked = new Map<string, string | undefined>();
+
 /** Why a name breaks the model's name rules, or undefined when it is valid. */
 export function checkName(name: string): string | undefined {
+  // sources repeat the same names on every row; the schema check is the costly part
+  if (checked.has(name)) return checked.get(name);
   const r = nameSchema.safeParse(name);
-  return r.success ? undefined : (r.error.issues[0]?.message ?? 'invalid name');
+  const why = r.success ? undefined : (r.error.issues[0]?.message ?? 'invalid name');
+  if (checked.size > 4096) checked.clear();
+  checked.set(name, why);
+  return why;
 }
 
 /** "1 cell", "3 cells". */

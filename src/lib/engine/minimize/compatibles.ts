@@ -221,19 +221,21 @@ export function enumeratePrimeCompatibles(
   limits: EnumerationLimits = {},
 ): { primes: CompatibleClass[]; complete: boolean; examined: number } {
   const limit = limits.limit ?? Infinity;
-  const levels = new Map<number, Map<string, Bitset>>();
+  // a candidate's hint is a prime known to contain it (its parent, or the parent's excluder),
+  // the likeliest one to exclude it, so it is tried first
+  const levels = new Map<number, Map<string, { b: Bitset; hint: number }>>();
   const maximalKeys = new Set<string>();
   let top = 0;
-  const offer = (b: Bitset, size: number): void => {
+  const offer = (b: Bitset, size: number, hint: number): void => {
     let level = levels.get(size);
     if (!level) levels.set(size, (level = new Map()));
     const k = bitsetToKey(b);
-    if (!level.has(k)) level.set(k, b);
+    if (!level.has(k)) level.set(k, { b, hint });
   };
   for (const m of maximal) {
     const size = countBits(m);
     maximalKeys.add(bitsetToKey(m));
-    offer(m, size);
+    offer(m, size, -1);
     if (size > top) top = size;
   }
   const primes: CompatibleClass[] = [];
@@ -261,19 +263,23 @@ export function enumeratePrimeCompatibles(
     const level = levels.get(k);
     if (!level) continue;
     levels.delete(k);
-    const candidates = [...level.values()].sort(compareBitsets);
+    const candidates = [...level.values()].sort((x, y) => compareBitsets(x.b, y.b));
     // primes found before this level are all larger; primes of this level cannot contain a candidate
     const largerWords = (primes.length + 31) >>> 5;
-    for (const cand of candidates) {
+    for (const { b: cand, hint } of candidates) {
       if (++examined > limit || ((examined & 255) === 0 && limits.deadline !== undefined && now() > limits.deadline)) {
         return { primes: sortClasses(primes), complete: false, examined };
       }
       const classSet = computeClassSet(space, cand);
       const members = bitsetToList(cand);
       let excluded = false;
-      if (!maximalKeys.has(bitsetToKey(cand))) {
+      let decider = -1;
+      if (hint >= 0 && isClassSetCovered(primes[hint]!.classSet, classSet)) {
+        excluded = true;
+        decider = hint;
+      } else if (!maximalKeys.has(bitsetToKey(cand))) {
         for (let w = 0; w < largerWords && !excluded; w++) {
-          let x = 0xffffffff;
+          let x = -1;
           for (const s of members) {
             x &= membership[s]![w]!;
             if (x === 0) break;
@@ -281,20 +287,24 @@ export function enumeratePrimeCompatibles(
           while (x !== 0) {
             const low = x & -x;
             x ^= low;
-            const q = primes[(w << 5) + (31 - Math.clz32(low))]!;
-            if (isClassSetCovered(q.classSet, classSet)) {
+            const qi = (w << 5) + (31 - Math.clz32(low));
+            if (isClassSetCovered(primes[qi]!.classSet, classSet)) {
               excluded = true;
+              decider = qi;
               break;
             }
           }
         }
       }
-      if (!excluded) addPrime({ states: cand, size: k, classSet });
+      if (!excluded) {
+        decider = primes.length;
+        addPrime({ states: cand, size: k, classSet });
+      }
       if (classSet.length === 0 || k === 1) continue;
       for (const s of members) {
         const sub = cand.slice();
         clearBit(sub, s);
-        offer(sub, k - 1);
+        offer(sub, k - 1, decider);
       }
     }
   }
