@@ -46,13 +46,17 @@ export type Scenario = z.infer<typeof scenarioSchema>;
 
 const NAME_HINT = 'names are 1 to 64 characters with no "/", no control characters and no leading or trailing space';
 
+// `__proto__` would silently vanish as an object key, and U+FFFD is what undecodable bytes become.
+const RESERVED_NAMES = new Set(['__proto__']);
+
 /** Schema of one state, input or output name. */
 export const nameSchema = z
   .string()
   .min(1, NAME_HINT)
   .max(LIMITS.nameLength, NAME_HINT)
   // eslint-disable-next-line no-control-regex
-  .refine((s) => !/[\u0000-\u001f\u007f/]/.test(s) && s.trim() === s, NAME_HINT);
+  .refine((s) => !/[\u0000-\u001f\u007f/\ufffd]/.test(s) && s.trim() === s, NAME_HINT)
+  .refine((s) => !RESERVED_NAMES.has(s), (s) => ({ message: `"${s}" is reserved and cannot be a name` }));
 
 /** The JSON interchange document, version 1 (DESIGN.md §4). */
 export const interchangeSchema = z
