@@ -48,23 +48,11 @@ async function openView(label: string, p: Page = page): Promise<void> {
   await p.getByRole('tab', { name: label, exact: true }).click();
 }
 
-/** The text a grid cell shows (by state name and column key). */
+/** A grid cell as text (`next/bits`, or `-` when unspecified), by state name and column key. */
 async function gridCell(state: string, key: string, p: Page = page): Promise<string> {
-  const grid = p.locator('[data-testid="flow-grid"]').first();
-  const label = await grid.getByRole('gridcell').evaluateAll(
-    (cells, [s, k]) => {
-      const wanted = `${s} at `;
-      const hit = cells.find((c) => {
-        const l = c.getAttribute('aria-label') ?? '';
-        if (!l.startsWith(wanted)) return false;
-        const bits = [...l.slice(wanted.length).matchAll(/=(\d)/g)].map((m) => m[1]).join('');
-        return bits === k;
-      });
-      return hit ? (hit.textContent ?? '').replace(/\s+/g, '') : null;
-    },
-    [state, key] as const,
-  );
-  return label ?? '(no cell)';
+  const cell = p.locator(`[data-testid="flow-grid"] [role="gridcell"][data-row="${state}"][data-key="${key}"]`).first();
+  if ((await cell.count()) === 0) return '(no cell)';
+  return (await cell.getAttribute('data-text')) ?? '(no text)';
 }
 
 describe('controller workbench (Chromium, built server)', () => {
@@ -124,7 +112,7 @@ describe('controller workbench (Chromium, built server)', () => {
     await page.keyboard.press('Control+A');
     await page.keyboard.insertText(next);
     await openView('Table');
-    await expect.poll(() => gridCell('a', '10')).toBe('·');
+    await expect.poll(() => gridCell('a', '10')).toBe('-');
   });
 
   it('fixes a finding through its action', async () => {
@@ -133,6 +121,10 @@ describe('controller workbench (Chromium, built server)', () => {
     await expect.poll(() => panel.locator('[data-finding-code="output-hazard"]').count()).toBe(8);
     await panel.locator('[data-finding-code="output-hazard"] button').first().click();
     await shot('05-finding-path');
+    await openView('Fill');
+    await expect.poll(() => page.getByTestId('fill-assignments').locator('tbody tr').count()).toBe(8);
+    await shot('06-fill');
+    await openView('Table');
     await panel.locator('[data-finding-code="output-hazard"]').first().getByTestId('fix-action').click();
     await expect.poll(() => page.getByTestId('notice').innerText()).toMatch(/Filled 8 don't-care outputs/);
     expect(await panel.locator('[data-finding-code="output-hazard"]').count()).toBe(0);
@@ -155,32 +147,37 @@ describe('controller workbench (Chromium, built server)', () => {
     expect(states).toEqual(['c', 'a', 'b', 'e']);
     const q = await wave.locator('[data-lane="out:Q"] [data-value]').evaluateAll((els) => els.map((e) => e.getAttribute('data-value')));
     expect(q).toEqual(['0', '0', '1', '1']);
-    await shot('06-run');
+    await shot('07-run');
   });
 
   it('shows the map', async () => {
     await openView('Map');
     await page.getByTestId('state-map').locator('[data-state-node]').first().waitFor({ timeout: 30_000 });
     expect(await page.locator('[data-state-node]').count()).toBe(6);
-    await shot('07-map');
+    await shot('08-map');
   });
 
   it('reduces the gated latch to 2 rows and applies it as a draft', async () => {
+    // Back to the table as published (fill and fixes undone), through the source editor.
+    await openView('Source');
+    await page.locator('[data-testid="source-editor"] .view-lines').click();
+    await page.keyboard.press('Control+A');
+    await page.keyboard.insertText(GATED_LATCH);
+    await openView('Table');
+    await expect.poll(() => gridCell('a', '10')).toBe('-');
+    await expect.poll(() => gridCell('a', '00')).toBe('c/-');
     await openView('Reduce');
     await page.getByTestId('run-reduce').click();
     // check-data README: reduces to 2 rows; maximal compatibles {a, b}, {a, c, d}, {b, e, f}.
     await expect.poll(() => page.getByTestId('reduce-summary').innerText()).toBe('6 → 2 rows');
     const maximal = await page.getByTestId('maximal-compatibles').innerText();
     for (const m of ['{a, b}', '{a, c, d}', '{b, e, f}']) expect(maximal).toContain(m);
-    await shot('08-reduce');
+    await shot('09-reduce');
     await page.getByTestId('apply-reduction').click();
     await expect.poll(() => page.getByRole('grid').getAttribute('aria-label')).toMatch(/2 states/);
   });
 
-  it('shows fill and settings views', async () => {
-    await openView('Fill');
-    await page.getByTestId('fill-panel').waitFor();
-    await shot('09-fill');
+  it('shows the settings view', async () => {
     await openView('Settings');
     await page.getByTestId('settings-panel').waitFor();
     await shot('10-settings');
@@ -193,6 +190,42 @@ describe('controller workbench (Chromium, built server)', () => {
     await expect.poll(() => page.getByTestId('notice').innerText()).toMatch(/Saved as r2/);
     expect(await page.getByTestId('base-revision').innerText()).toContain('r2');
     expect(await page.getByTestId('dirty-badge').count()).toBe(0);
+  });
+
+  it('answers a save on a stale base with the conflict screen, and reapplies the edits onto the head', async () => {
+    // A second tab saves r3 first.
+    const other = await browser.newPage();
+    await other.setViewportSize({ width: 1440, height: 1000 });
+    await other.goto(page.url());
+    await other.getByTestId('workbench').waitFor();
+    await other.getByTestId('save-open').waitFor();
+    await other.locator('[data-testid="flow-grid"] [role="gridcell"]').first().click();
+    await other.keyboard.press('Alt+s');
+    await other.getByRole('button', { name: '+ state' }).click();
+    await other.getByTestId('save-open').click();
+    await other.getByTestId('save-submit').click();
+    await expect.poll(() => other.getByTestId('notice').innerText()).toMatch(/Saved as r3/);
+    await other.close();
+    // This tab still edits r2: its save is refused and nothing is lost.
+    await openView('Table');
+    const last = page.locator('[data-testid="flow-grid"] [role="gridcell"]').last();
+    await last.click();
+    await page.keyboard.press('-');
+    expect(await last.getAttribute('data-text')).toBe('-');
+    await page.getByTestId('save-open').click();
+    await page.getByTestId('save-submit').click();
+    await page.getByTestId('conflict-screen').waitFor();
+    expect(await page.getByTestId('conflict-screen').innerText()).toMatch(/Someone saved r3 while you were editing r2[\s\S]*Nothing was overwritten/);
+    await page.getByTestId('conflict-compare').click();
+    await page.getByTestId('conflict-diff').waitFor();
+    await shot('10b-conflict');
+    await page.getByTestId('conflict-reapply').click();
+    await expect.poll(() => page.getByTestId('base-revision').innerText()).toContain('r3');
+    expect(await page.getByTestId('notice').innerText()).toMatch(/Reapplied 1 edit onto r3/);
+    expect(await page.locator('[data-testid="flow-grid"] [role="gridcell"][data-row="s3"]').count()).toBeGreaterThan(0);
+    await page.getByTestId('save-open').click();
+    await page.getByTestId('save-submit').click();
+    await expect.poll(() => page.getByTestId('notice').innerText()).toMatch(/Saved as r4/);
   });
 
   it('downloads the C zip, which unzips and passes its own tests with gcc', async () => {

@@ -101,6 +101,7 @@ export default function CodeDiff({ from, to, targets }: CodeDiffProps) {
                   aria-current={f.path === file?.path ? 'true' : undefined}
                   onClick={() => setChosen((c) => ({ ...c, [current.target]: f.path }))}
                   data-status={f.status}
+                  data-path={f.path}
                 >
                   <span className={`q-badge ${STATUS_CLASS[f.status]} w-6 justify-center`} title={f.status} aria-label={f.status}>
                     {STATUS_MARK[f.status]}

@@ -51,7 +51,7 @@ export default function FindingsPanel(props: FindingsPanelProps) {
   return (
     <div className="flex flex-col gap-3" data-testid="findings-panel" aria-busy={pending ? true : undefined}>
       <p className="text-sm text-ink-muted" role="status" aria-live="polite">
-        {findings.length === 0 ? 'No findings: every reachable single-input change settles cleanly.' : `${groups.map((g) => `${g.items.length} ${g.severity}${g.items.length === 1 ? '' : 's'}`).join(' · ')}`}
+        {findings.length === 0 ? 'No findings: every reachable single-input change settles cleanly.' : groups.map((g) => `${g.items.length} ${g.severity === 'info' ? (g.items.length === 1 ? 'note' : 'notes') : `${g.severity}${g.items.length === 1 ? '' : 's'}`}`).join(' · ')}
         {pending ? ' · updating…' : ''}
       </p>
       {groups.map(

@@ -292,6 +292,9 @@ export default function FlowGrid(props: FlowGridProps) {
                     aria-selected={isSel}
                     aria-label={cellLabel(s, c)}
                     data-cell={`${s}:${c}`}
+                    data-row={t.states[s]}
+                    data-key={keys[d]}
+                    data-text={n === NONE ? '-' : cellText(t, cell)}
                     data-kind={n === NONE ? 'unspecified' : n === s ? 'stable' : 'transient'}
                     onMouseDown={(e) => {
                       e.preventDefault();

@@ -25,8 +25,16 @@ const EFFECT_TEXT: Record<string, string> = {
   'unspecified-transition': 'the handler holds state and outputs and calls the fault hook',
   oscillation: 'the handler holds and reports an oscillation fault',
   'unspecified-power-up': 'init starts in the reset state with all outputs 0 and reports a power-up fault',
-  'order-dependent-double-change': 'with this policy the handler faults on this double change instead of guessing',
+  'order-dependent-double-change': 'the outcome of this double change depends on the order the pins are read',
   'output-glitch': 'the written outputs are final values, but the table promises a flicker the design did not mean',
+};
+
+/** What the generated handler does with an order-dependent double change, per policy. */
+const POLICY_EFFECT: Record<string, string> = {
+  guarded: 'the guarded policy makes the handler hold and fault instead of guessing',
+  fault: 'the fault policy makes the handler hold and fault',
+  stepwise: 'the stepwise policy applies the lower input first, which is one of the possible outcomes',
+  direct: 'the direct policy settles in the new column, which is one of the possible outcomes',
 };
 
 /** Props of the build panel. */
@@ -62,7 +70,7 @@ export default function GeneratePanel({ workspace, controller, table, source, fi
   const [file, setFile] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
   const [error, setError] = useState<string | null>(null);
-  const preview = useGeneratePreview(workspace, controller, source, target, valid);
+  const preview = useGeneratePreview(workspace, controller, source, target, revisionLabel, valid);
   const files = preview.data?.files ?? [];
   useEffect(() => {
     if (files.length && (!file || !files.some((f) => f.path === file))) setFile(files.find((f) => /\.(c|rs)$/.test(f.path) && !/test/.test(f.path))?.path ?? files[0]!.path);
@@ -135,6 +143,7 @@ export default function GeneratePanel({ workspace, controller, table, source, fi
             {affecting.slice(0, 12).map((f, i) => (
               <li key={i}>
                 <code>{f.code}</code> {f.state ? <span className="font-mono">({f.state}{f.inputs !== undefined ? `, ${f.inputs}` : ''})</span> : null}: {EFFECT_TEXT[f.code]}
+                {f.code === 'order-dependent-double-change' ? `; ${POLICY_EFFECT[table.settings.doubleChange]}` : ''}
               </li>
             ))}
             {affecting.length > 12 && <li>and {affecting.length - 12} more</li>}

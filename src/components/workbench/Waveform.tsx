@@ -24,9 +24,9 @@ export interface WaveformProps {
   slots: WaveSlot[];
 }
 
-const LANE_H = 26;
-const LABEL_W = 120;
-const SLOT_W = 64;
+const LANE_H = 32;
+const LABEL_W = 130;
+const SLOT_W = 84;
 const PAD = 6;
 
 /** The SVG waveform; its ref is used for SVG export. */
@@ -46,7 +46,7 @@ const Waveform = forwardRef<SVGSVGElement, WaveformProps>(function Waveform({ in
       aria-label={`Waveform of ${slots.length} steps`}
       data-testid="waveform"
       data-steps={slots.length}
-      className="font-mono text-[11px]"
+      className="font-mono text-[12px]"
       style={{ fontFamily: 'Fira Code, monospace' }}
     >
       <rect x={0} y={0} width={width} height={height} fill="var(--q-surface, #fff)" />

@@ -318,7 +318,7 @@ function WorkbenchInner({ workspace, controller, revision, head, canEdit, role }
             <button type="button" className="q-btn q-btn-small" onClick={() => dispatch({ type: 'redo' })} disabled={!state.future.length} title={state.future.length ? `Redo ${state.future[0]!.label} (Ctrl+Shift+Z)` : 'Nothing to redo'} aria-keyshortcuts="Control+Shift+Z">
               ↷ Redo
             </button>
-            <button type="button" className="q-btn q-btn-primary q-btn-small" onClick={() => setSaveOpen(true)} disabled={!valid} aria-keyshortcuts="Control+S" data-testid="save-open">
+            <button type="button" className="q-btn q-btn-primary q-btn-small" onClick={() => setSaveOpen(true)} disabled={!valid || (!state.dirty && base > 0)} title={!state.dirty && base > 0 ? 'No unsaved edits' : 'Save a new revision (Ctrl+S)'} aria-keyshortcuts="Control+S" data-testid="save-open">
               Save revision…
             </button>
           </>

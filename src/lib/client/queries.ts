@@ -83,14 +83,14 @@ export interface GeneratedFile {
 }
 
 /** Preview of the generated files for the current draft source and a target. */
-export function useGeneratePreview(workspace: string, controller: string, source: string, target: 'c' | 'rust', enabled: boolean) {
+export function useGeneratePreview(workspace: string, controller: string, source: string, target: 'c' | 'rust', revision: string, enabled: boolean) {
   return useQuery({
-    queryKey: ['generate', workspace, controller, target, source],
+    queryKey: ['generate', workspace, controller, target, revision, source],
     enabled,
     staleTime: Infinity,
     queryFn: ({ signal }) =>
       apiJson<{ files: GeneratedFile[]; sha256: string; zipBytes: number; footprint: { tableBytes: number; codeEstimate: number; stateBits: number; outputBits: number } }>(`${controllerPath(workspace, controller)}/generate`, {
-        body: { source, target },
+        body: { source, target, revision },
         signal,
       }),
   });

@@ -2,7 +2,7 @@
 import type { APIContext, AstroGlobal } from 'astro';
 import type { z, ZodTypeAny } from 'zod';
 import { readConfig } from './config';
-import { ApiError, fail, zodToApiError } from './errors';
+import { ApiError, fail, toApiError, zodToApiError } from './errors';
 import type { SessionUser } from './session';
 
 type Ctx = Pick<APIContext, 'request' | 'url' | 'locals' | 'clientAddress'> | AstroGlobal;
@@ -76,9 +76,10 @@ export function parseForm<S extends ZodTypeAny>(form: FormData, schema: S): Form
   return { ok: false, message: error.message.replace(/^[\w.]+: /, ''), field: error.field };
 }
 
-/** Turns any thrown value into a form message (expected errors keep their text; others get a generic one). */
+/** Turns an expected error (4xx, zod, constraint clash) into a form message; rethrows unexpected ones. */
 export function errorToFormResult(error: unknown): { ok: false; message: string; field?: string | undefined } {
-  if (error instanceof ApiError && error.status < 500) return { ok: false, message: error.message, field: error.field };
+  const apiError = toApiError(error);
+  if (apiError.status < 500) return { ok: false, message: apiError.message.replace(/^[\w.]+: /, ''), field: apiError.field };
   throw error;
 }
 

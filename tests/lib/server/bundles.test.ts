@@ -1,4 +1,8 @@
-import { createHash } from 'node:crypto';
+import { createHash, randomBytes } from 'node:crypto';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import pg from 'pg';
 import JSZip from 'jszip';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { and, eq, sql } from 'drizzle-orm';
@@ -137,4 +141,85 @@ describe.each(BACKENDS)('bundles on $name', (backend) => {
     const people = await world.db.select().from(s.auditLog).where(eq(s.auditLog.action, 'bundle.downloaded'));
     expect(people.length).toBeGreaterThan(0);
   });
+});
+
+// Byte-identical downloads across requests and across a restart of the BUILT server on the
+// same data (the embedded database directory, or the same PostgreSQL database).
+const BUILT: { name: string; prepare: () => Promise<{ env: Record<string, string>; dataDir?: string; cleanup: () => Promise<void> }> }[] = [
+  {
+    name: 'pglite',
+    prepare: async () => {
+      const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'quiesce-built-'));
+      return { env: {}, dataDir: dir, cleanup: async () => fs.rmSync(dir, { recursive: true, force: true }) };
+    },
+  },
+  ...(process.env.TEST_DATABASE_URL
+    ? [
+        {
+          name: 'postgres',
+          prepare: async () => {
+            const admin = new pg.Client({ connectionString: process.env.TEST_DATABASE_URL });
+            const name = `quiesce_built_${randomBytes(5).toString('hex')}`;
+            await admin.connect();
+            await admin.query(`create database ${name}`);
+            await admin.end();
+            const url = new URL(process.env.TEST_DATABASE_URL!);
+            url.pathname = `/${name}`;
+            return {
+              env: { DATABASE_URL: url.toString(), QUIESCE_DEMO: '1' },
+              cleanup: async () => {
+                const dropper = new pg.Client({ connectionString: process.env.TEST_DATABASE_URL });
+                await dropper.connect();
+                await dropper.query(`drop database if exists ${name} with (force)`);
+                await dropper.end();
+              },
+            };
+          },
+        },
+      ]
+    : []),
+];
+
+describe.each(BUILT)('built server on $name', (backend) => {
+  const KEY = 'qk_demo_halvorsen_line3_4f7c2a9e81d0b6c5'; // the documented demo key (src/lib/server/demo/accounts.ts)
+  it('serves byte-identical bundles across requests and across a restart', async () => {
+    const { startServer } = await import('../../e2e/support/server');
+    const prepared = await backend.prepare();
+    const fetchBundle = async (url: string, rev: string, target: string) => {
+      const r = await fetch(`${url}/api/v1/workspaces/halvorsen/controllers/door-interlock/revisions/${rev}/bundle?target=${target}`, { headers: { authorization: `Bearer ${KEY}` } });
+      expect(r.status).toBe(200);
+      return { bytes: new Uint8Array(await r.arrayBuffer()), etag: r.headers.get('etag'), revision: r.headers.get('x-quiesce-revision') };
+    };
+    try {
+      let server = await startServer({ env: prepared.env, ...(prepared.dataDir ? { dataDir: prepared.dataDir } : {}) });
+      const first = await fetchBundle(server.url, 'latest', 'c');
+      const again = await fetchBundle(server.url, '1', 'c');
+      const rust = await fetchBundle(server.url, 'latest', 'rust');
+      const sum = await fetch(`${server.url}/api/v1/workspaces/halvorsen/controllers/door-interlock/revisions/1/bundle.sha256?target=c`, { headers: { authorization: `Bearer ${KEY}` } });
+      const sumText = await sum.text();
+      await server.stop({ keepData: true });
+      server = await startServer({ env: prepared.env, ...(prepared.dataDir ? { dataDir: prepared.dataDir } : {}) });
+      try {
+        const after = await fetchBundle(server.url, 'latest', 'c');
+        const rustAfter = await fetchBundle(server.url, '1', 'rust');
+        expect(first.etag).toBe(`"${sha256(first.bytes)}"`);
+        expect(first.revision).toBe('1');
+        expect(Buffer.from(again.bytes).equals(Buffer.from(first.bytes))).toBe(true);
+        expect(Buffer.from(after.bytes).equals(Buffer.from(first.bytes))).toBe(true);
+        expect(Buffer.from(rustAfter.bytes).equals(Buffer.from(rust.bytes))).toBe(true);
+        expect(after.etag).toBe(first.etag);
+        expect(sumText).toBe(`${sha256(first.bytes)}  door-interlock-r1-c.zip\n`);
+        const notModified = await fetch(`${server.url}/api/v1/workspaces/halvorsen/controllers/door-interlock/revisions/latest/bundle?target=c`, { headers: { authorization: `Bearer ${KEY}`, 'if-none-match': first.etag! } });
+        expect(notModified.status).toBe(304);
+        const anonymous = await fetch(`${server.url}/api/v1/workspaces/halvorsen/controllers/door-interlock/revisions/latest/bundle?target=c`);
+        expect(anonymous.status).toBe(404);
+        const openapi = await fetch(`${server.url}/api/v1/openapi.json`);
+        expect(openapi.status).toBe(200);
+      } finally {
+        await server.stop({ keepData: true });
+      }
+    } finally {
+      await prepared.cleanup();
+    }
+  }, 900_000);
 });

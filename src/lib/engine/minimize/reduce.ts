@@ -64,12 +64,17 @@ export interface MinimizeResult {
 /** Minimizes the number of rows: exact minimum closed cover within the budgets, else a heuristic one. */
 export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): MinimizeResult {
   const start = now();
-  const deadline = start + (options.timeBudgetMs ?? DEFAULT_TIME_BUDGET_MS);
+  const budget = options.timeBudgetMs ?? DEFAULT_TIME_BUDGET_MS;
+  // phases share the time budget; the last tenth is kept for the fallback heuristic
+  const deadline = start + budget;
+  const searchDeadline = start + 0.9 * budget;
   const n = t.states.length;
   const chart = buildImplicationChart(t);
-  const maximal = enumerateMaximalCompatibles(chart, { limit: options.maximalLimit ?? 20_000, deadline });
+  const maximal = enumerateMaximalCompatibles(chart, { limit: options.maximalLimit ?? 20_000, deadline: start + 0.3 * budget });
   const space = createCompatibleSpace(t);
-  const primes = maximal.complete ? enumeratePrimeCompatibles(space, maximal.sets, { limit: options.primeLimit ?? 200_000, deadline }) : undefined;
+  const primes = maximal.complete
+    ? enumeratePrimeCompatibles(space, maximal.sets, { limit: options.primeLimit ?? 200_000, deadline: start + 0.6 * budget })
+    : undefined;
 
   let classes: number[][] | undefined;
   let exact = false;
@@ -78,7 +83,7 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
   if (primes?.complete) {
     const r = searchMinimumCover(n, primes.primes, {
       nodeBudget: options.nodeBudget ?? DEFAULT_NODE_BUDGET,
-      timeBudgetMs: Math.max(0, deadline - now()),
+      timeBudgetMs: Math.max(0, searchDeadline - now()),
     });
     nodes = r.nodes;
     if (r.classes.length > 0) {
@@ -89,13 +94,14 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
   } else {
     const pool = withClassSets(space, maximal.sets);
     if (primes) pool.push(...primes.primes);
-    classes = searchHeuristicCover(n, pool, (b) => computeClassSet(space, b), { deadline })?.classes;
+    classes = searchHeuristicCover(n, pool, (b) => computeClassSet(space, b), { deadline: searchDeadline })?.classes;
   }
   if (!exact) {
     // the merge heuristic is polynomial and never worse than one row per state
     const partition = findClosedPartition(t, chart, { deadline: Math.max(deadline, now() + 50) });
     if (!classes || partition.length < classes.length) classes = partition;
   }
+  if (!classes) throw new Error('minimizeTable: no cover was built');
   classes = classes.map((c) => c.slice().sort((a, b) => a - b)).sort(compareLists);
   const table = buildReducedTable(t, classes);
   return {
