@@ -3,6 +3,7 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { exportTable, FORMATS, parseSource } from '../src/lib/engine/formats/index';
 import { countColumns, createTable, NONE, type FlowTable } from '../src/lib/engine/model';
 import { timeMedian, type BenchRow } from './types';
+import { KISS2_DIR } from '../tests/support/check-data';
 
 /** A deterministic pseudo-random table (xorshift), half the cells specified, with don't-cares. */
 function randomTable(inputs: number, states: number, outputs: number): FlowTable {
@@ -44,7 +45,7 @@ export async function run(): Promise<BenchRow[]> {
     const parse = timeMedian(() => parseSource(text, f, { name: 'bench' }), 5);
     rows.push({ group: 'formats', case: `${f}: 128 states x 64 columns (${specified} cells), ${(text.length / 1024).toFixed(0)} KiB`, value: `print ${print.toFixed(1)} ms, parse ${parse.toFixed(1)} ms` });
   }
-  const dir = '/work/shared/check-data/kiss2/';
+  const dir = KISS2_DIR;
   let files: string[] = [];
   try {
     files = readdirSync(dir).filter((f) => f.endsWith('.kiss2'));

@@ -125,8 +125,13 @@ describe('review and release (Chromium, built server)', () => {
     await editor.locator('.monaco-diff-editor').waitFor({ timeout: 60_000 });
     await expect.poll(() => editor.locator('.editor.modified .line-insert, .editor.modified .char-insert').count(), { timeout: 30_000 }).toBeGreaterThan(0);
     await expect.poll(() => editor.locator('.editor.original .line-delete, .editor.original .char-delete').count(), { timeout: 30_000 }).toBeGreaterThan(0);
+    // Beyond the header (revision label and source hash), the settled table itself changed.
+    await expect.poll(async () => Number((await page.getByTestId('code-diff-changes').getAttribute('data-changes')) ?? 0), { timeout: 30_000 }).toBeGreaterThanOrEqual(2);
     await shot('02-compare');
     await editor.scrollIntoViewIfNeeded();
+    await page.getByRole('button', { name: 'Next change' }).click();
+    await page.getByRole('button', { name: 'Next change' }).click();
+    await page.waitForTimeout(300);
     await viewShot('03-code-diff');
   });
 

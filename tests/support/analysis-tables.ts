@@ -9,12 +9,12 @@ import { columnToKey, countColumns, createTable, NONE, setCellBits, type FlowTab
 import { settle } from '../../src/lib/engine/settle';
 import { parseKiss2 } from '../../src/lib/engine/formats/kiss2';
 import { arbitraryTable } from './arbitrary-table';
+import { KISS2_DIR } from './check-data';
 
-const CHECK_DATA = new URL('../../../shared/check-data/kiss2/', import.meta.url);
 
 /** A KISS2 file of the check data (MCNC/LGSynth'91 benchmark set, or the gated latch worked example). */
 export function loadCheckTable(name: string): FlowTable {
-  return parseKiss2(readFileSync(new URL(`${name}.kiss2`, CHECK_DATA), 'utf8'), { name: name.replace(/-/g, '_') });
+  return parseKiss2(readFileSync(`${KISS2_DIR}${name}.kiss2`, 'utf8'), { name: name.replace(/-/g, '_') });
 }
 
 interface TableShape {

@@ -4,9 +4,9 @@
  * chosen file. Monaco comes from the local package (src/lib/client/monaco-setup.ts); mount this
  * island with client:only="react".
  */
-import { useMemo, useState } from 'react';
+import { useMemo, useRef, useState } from 'react';
 import { DiffEditor } from '@monaco-editor/react';
-import { pickMonacoTheme, setupMonaco } from '../../lib/client/monaco-setup';
+import { pickMonacoTheme, setupMonaco, type monaco } from '../../lib/client/monaco-setup';
 
 setupMonaco();
 
@@ -57,6 +57,8 @@ export default function CodeDiff({ from, to, targets }: CodeDiffProps) {
   const current = targets.find((t) => t.target === target) ?? targets[0];
   const [chosen, setChosen] = useState<Record<string, string>>(() => Object.fromEntries(targets.map((t) => [t.target, firstInteresting(t.files)])));
   const [showUnchanged, setShowUnchanged] = useState(false);
+  const [changes, setChanges] = useState<number | null>(null);
+  const diffRef = useRef<monaco.editor.IStandaloneDiffEditor | null>(null);
   const file = current?.files.find((f) => f.path === chosen[current.target]) ?? current?.files[0];
   const listed = useMemo(() => (current ? current.files.filter((f) => showUnchanged || f.status !== 'unchanged' || f.path === file?.path) : []), [current, showUnchanged, file]);
   if (!current) return <p className="text-sm text-ink-muted">No generated code to compare.</p>;
@@ -124,9 +126,20 @@ export default function CodeDiff({ from, to, targets }: CodeDiffProps) {
         <div className="border border-line rounded-md overflow-hidden min-h-[24rem]" data-testid="code-diff-editor">
           {file && (
             <>
-              <p className="px-3 py-1.5 text-sm border-b border-line bg-raised font-mono">
-                {current.target}/{file.path} <span className="text-ink-muted">— {file.status}; left r{from}, right r{to}</span>
-              </p>
+              <div className="px-3 py-1.5 text-sm border-b border-line bg-raised flex flex-wrap items-center gap-2">
+                <span className="font-mono flex-1">
+                  {current.target}/{file.path} <span className="text-ink-muted">— {file.status}; left r{from}, right r{to}</span>
+                </span>
+                <span className="text-xs text-ink-muted" data-testid="code-diff-changes" data-changes={changes ?? undefined}>
+                  {changes === null ? '' : `${changes} changed block${changes === 1 ? '' : 's'}`}
+                </span>
+                <button type="button" className="q-btn q-btn-small" onClick={() => diffRef.current?.goToDiff('previous')} aria-label="Previous change">
+                  ↑ previous
+                </button>
+                <button type="button" className="q-btn q-btn-small" onClick={() => diffRef.current?.goToDiff('next')} aria-label="Next change">
+                  ↓ next change
+                </button>
+              </div>
               <DiffEditor
                 height="60vh"
                 original={file.before ?? ''}
@@ -135,6 +148,10 @@ export default function CodeDiff({ from, to, targets }: CodeDiffProps) {
                 modifiedModelPath={`compare://r${to}/${current.target}/${file.path}`}
                 language={languageOf(file.path)}
                 theme={pickMonacoTheme()}
+                onMount={(editor) => {
+                  diffRef.current = editor;
+                  editor.onDidUpdateDiff(() => setChanges(editor.getLineChanges()?.length ?? 0));
+                }}
                 options={{
                   readOnly: true,
                   originalEditable: false,

@@ -8,9 +8,10 @@ import { parseJson, tableToJson } from '../../../src/lib/engine/formats/json';
 import { parseKiss2 } from '../../../src/lib/engine/formats/kiss2';
 import { parseText, tableToText } from '../../../src/lib/engine/formats/text';
 import { tablesEqual } from '../../../src/lib/engine/model';
+import { KISS2_DIR } from '../../support/check-data';
 
 const BIN = new URL('../../../bin/quiesce.mjs', import.meta.url).pathname;
-const KISS = '/work/shared/check-data/kiss2';
+const KISS = KISS2_DIR.slice(0, -1);
 const DOOR = new URL('../../fixtures/formats/door-interlock.qfl', import.meta.url).pathname;
 const tmp = mkdtempSync(join(tmpdir(), 'quiesce-cli-'));
 afterAll(() => rmSync(tmp, { recursive: true, force: true }));

@@ -23,7 +23,9 @@ const here = dirname(new URL(import.meta.url).pathname);
 const root = join(here, '..', '..', '..');
 
 /** Folder of the external check data (MCNC / LGSynth'91 KISS2 benchmark set, see check-data/README.md). */
-export const KISS2_DIR = join(root, '..', 'shared', 'check-data', 'kiss2');
+import { KISS2_DIR } from '../../support/check-data';
+
+export { KISS2_DIR };
 
 /** The demo tables (invented examples of fictional makers), also the app's demo data. */
 export function loadDemoTables(): { file: string; table: FlowTable }[] {

@@ -3,13 +3,15 @@
  * the reduced table (one row per class) and a check that the reduction keeps behaviour.
  */
 import { columnToKey, countColumns, LIMITS, NONE, createTable, type FlowTable } from '../model';
-import { bitsetFromList, bitsetToList, compareLists, countBits, type Bitset } from './bitset';
+import { bitsetFromList, bitsetToList, clearBit, compareLists, countBits, createBitset, isSubset, type Bitset } from './bitset';
 import {
   computeClassSet,
   createCompatibleSpace,
   enumerateMaximalCompatibles,
   enumeratePrimeCompatibles,
+  fillImpliedClass,
   now,
+  type CompatibleSpace,
   type CompatibleClass,
   type PrimeCompatible,
 } from './compatibles';
@@ -102,6 +104,7 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
     if (!classes || partition.length < classes.length) classes = partition;
   }
   if (!classes) throw new Error('minimizeTable: no cover was built');
+  classes = shrinkOverlaps(space, classes, Math.max(deadline, now() + 50));
   classes = classes.map((c) => c.slice().sort((a, b) => a - b)).sort(compareLists);
   const table = buildReducedTable(t, classes);
   return {
@@ -123,7 +126,44 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
   };
 }
 
-function withClassSets(space: ReturnType<typeof createCompatibleSpace>, sets: readonly Bitset[]): CompatibleClass[] {
+/** True when every implied class of every class lies inside some class. */
+function isClosed(space: CompatibleSpace, sets: readonly Bitset[]): boolean {
+  const scratch = createBitset(space.stateCount);
+  for (const x of sets) {
+    const members = bitsetToList(x);
+    for (const c of space.nextColumns) {
+      if (fillImpliedClass(space, members, c, scratch) < 2) continue;
+      if (!sets.some((y) => isSubset(scratch, y))) return false;
+    }
+  }
+  return true;
+}
+
+/**
+ * A closed cover may hold a state in several classes. Where dropping such a state from a
+ * class keeps the cover closed, drop it: the row count stays, and the classes read better.
+ */
+function shrinkOverlaps(space: CompatibleSpace, classes: number[][], deadline: number): number[][] {
+  const n = space.stateCount;
+  const sets = classes.map((c) => bitsetFromList(n, c));
+  const uses = new Int32Array(n);
+  for (const c of classes) for (const st of c) uses[st]!++;
+  if (!uses.some((u) => u > 1)) return classes;
+  for (let x = 0; x < sets.length; x++) {
+    for (const st of bitsetToList(sets[x]!)) {
+      if (uses[st]! < 2 || countBits(sets[x]!) < 2 || now() > deadline) continue;
+      const before = sets[x]!;
+      const after = before.slice();
+      clearBit(after, st);
+      sets[x] = after;
+      if (isClosed(space, sets)) uses[st]!--;
+      else sets[x] = before;
+    }
+  }
+  return sets.map(bitsetToList);
+}
+
+function withClassSets(space: CompatibleSpace, sets: readonly Bitset[]): CompatibleClass[] {
   return sets.map((b) => ({ states: b, size: countBits(b), classSet: computeClassSet(space, b) }));
 }
 

@@ -13,6 +13,7 @@ import {
 import { FlowTableError, tablesEqual, type FlowTable } from '../../../../src/lib/engine/model';
 import * as engine from '../../../../src/lib/engine/index';
 import { arbitraryTable } from '../../../support/arbitrary-table';
+import { KISS2_DIR } from '../../../support/check-data';
 
 const door = readFileSync(new URL('../../../fixtures/formats/door-interlock.qfl', import.meta.url), 'utf8');
 
@@ -67,7 +68,7 @@ describe('round trips between formats lose nothing the target can hold', () => {
   });
 
   it('every KISS2 benchmark survives KISS2 -> text -> JSON -> CSV -> KISS2 (MCNC/LGSynth\'91 benchmark set, check-data/kiss2)', () => {
-    const dir = '/work/shared/check-data/kiss2/';
+    const dir = KISS2_DIR;
     for (const f of readdirSync(dir).filter((x) => x.endsWith('.kiss2'))) {
       const src = readFileSync(dir + f, 'utf8');
       const t = parseSource(src, 'kiss2', { name: nameFromFilename(f) });

@@ -5,8 +5,9 @@ import { parseKiss2, tableToKiss2 } from '../../../../src/lib/engine/formats/kis
 import { cellToText, countColumns, FlowTableError, keyToColumn, NONE, tablesEqual, type FlowTable } from '../../../../src/lib/engine/model';
 import { arbitraryTable } from '../../../support/arbitrary-table';
 import { issuesOf } from '../../../support/format-helpers';
+import { KISS2_DIR } from '../../../support/check-data';
 
-const DIR = '/work/shared/check-data/kiss2/';
+const DIR = KISS2_DIR;
 const read = (f: string) => readFileSync(`${DIR}${f}.kiss2`, 'utf8');
 const cell = (t: FlowTable, state: string, key: string) => cellToText(t, t.states.indexOf(state) * countColumns(t.inputs.length) + keyToColumn(key));
 

@@ -7,6 +7,7 @@ import { parseText, tableToText } from '../../../../src/lib/engine/formats/text'
 import { cellToText, countColumns, FlowTableError, keyToColumn, NONE, tablesEqual, type FlowTable } from '../../../../src/lib/engine/model';
 import { arbitraryTable } from '../../../support/arbitrary-table';
 import { changedLines, expectLocatedOrOk, issuesOf } from '../../../support/format-helpers';
+import { KISS2_DIR } from '../../../support/check-data';
 
 const fixture = (name: string) => readFileSync(new URL(`../../../fixtures/formats/${name}`, import.meta.url), 'utf8');
 const cell = (t: FlowTable, state: string, key: string) => cellToText(t, t.states.indexOf(state) * countColumns(t.inputs.length) + keyToColumn(key));
@@ -236,7 +237,7 @@ describe('.qfl matches the KISS2 copy of the gated-latch worked example', () => 
   // also given as check-data/kiss2/gated-latch.kiss2
   it('has the same states, reset and cells', () => {
     const q = parseText(fixture('gated-latch.qfl'));
-    const k = parseKiss2(readFileSync('/work/shared/check-data/kiss2/gated-latch.kiss2', 'utf8'), { name: 'gated_latch' });
+    const k = parseKiss2(readFileSync(KISS2_DIR + 'gated-latch.kiss2', 'utf8'), { name: 'gated_latch' });
     expect(q.states).toEqual(['a', 'b', 'c', 'd', 'e', 'f']);
     expect(k.states).toEqual(q.states);
     expect(q.reset).toBe(k.reset);
