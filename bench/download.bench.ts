@@ -147,6 +147,9 @@ export async function run(): Promise<BenchRow[]> {
     }
     const bundle = combine(bundleRuns);
     const stat = combine(staticRuns);
+    // Reference: the cheapest server-rendered answer (the health endpoint, through the same
+    // middleware), to tell the framework's per-request cost from the download code's.
+    const floor = await measure(`${origin}/api/health`, {});
     const ratio = stat.rps / Math.max(bundle.rps, 1e-9);
     const failures = bundle.errors + bundle.non2xx;
     const kib = (bytes.byteLength / 1024).toFixed(1);
@@ -154,6 +157,7 @@ export async function run(): Promise<BenchRow[]> {
       { group: 'download', case: `cached bundle (${kib} KiB), ${CONNECTIONS} clients, ${ROUNDS} × ${SECONDS} s`, value: `${bundle.rps.toFixed(0)} req/s, p50 ${bundle.p50} ms, p99 ${bundle.p99} ms (${bundle.total} requests)` },
       { group: 'download', case: `static file of the same size, ${CONNECTIONS} clients, ${ROUNDS} × ${SECONDS} s`, value: `${stat.rps.toFixed(0)} req/s, p50 ${stat.p50} ms, p99 ${stat.p99} ms (${stat.total} requests)` },
       { group: 'download', case: 'throughput ratio static / bundle', value: ratio.toFixed(2), target: '<= 2', ok: ratio <= 2 },
+      { group: 'download', case: 'reference: health endpoint (no work), same clients', value: `${floor.rps.toFixed(0)} req/s, p99 ${floor.p99} ms; ratio static / health ${(stat.rps / Math.max(floor.rps, 1e-9)).toFixed(2)}` },
       { group: 'download', case: 'p99 latency ratio bundle / static', value: (bundle.p99 / Math.max(stat.p99, 1)).toFixed(2) },
       { group: 'download', case: 'errors and non-2xx answers (bundle)', value: String(failures), target: '0', ok: failures === 0 },
       { group: 'download', case: `first download of a new revision (generates the C bundle), median of ${firstMs.length}`, value: `${median(firstMs).toFixed(1)} ms (max ${Math.max(...firstMs).toFixed(1)} ms)` },

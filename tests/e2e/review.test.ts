@@ -232,6 +232,17 @@ describe('review and release (Chromium, built server)', () => {
     await expect(page.getByTestId('keys').innerText()).resolves.toMatch(/Demo CI/);
     await expect(page.getByTestId('keys').innerText()).resolves.toMatch(/\d{4}-\d\d-\d\d \d\d:\d\d/); // last use recorded
     await shot('10-keys');
+    // Any revision opens read-only, with its bundle checksums.
+    await page.goto(`${server.url}/w/${ws}/c/${CONTROLLER}/r/3`);
+    await expect(page.getByTestId('revision-grid').locator('[data-cell="blocked:00"]').innerText()).resolves.toContain('open_idle');
+    await expect(page.getByText(releaseSha).count()).resolves.toBe(1);
+    await shot('11-revision');
+    // The compare in the dark theme (contrast of the change marks).
+    await page.emulateMedia({ colorScheme: 'dark' });
+    await page.goto(`${server.url}/w/${ws}/c/${CONTROLLER}/compare?from=2&to=3`);
+    await page.getByTestId('code-diff').waitFor({ timeout: 60_000 });
+    await viewShot('12-compare-dark');
+    await page.emulateMedia({ colorScheme: 'light' });
     const doc = await page.request.get(`${server.url}/api/v1/openapi.json`);
     expect(((await doc.json()) as { openapi: string }).openapi).toBe('3.0.3');
     browser.assertLoopbackOnly();

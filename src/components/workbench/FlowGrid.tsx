@@ -10,8 +10,8 @@ import { useVirtualizer } from '@tanstack/react-virtual';
 import { countColumns, grayKeys, keyToColumn, NONE, type FlowTable } from '../../lib/engine/model';
 import { checkName, proposeName, type TableEdit } from '../../lib/client/table-edits';
 
-/** Cell width and row height in px; fixed so that virtualization can compute offsets. */
-const COL_W = 92;
+/** Narrowest cell, and row height in px; both fixed per table so that virtualization can compute offsets. */
+const MIN_COL_W = 92;
 const ROW_H = 36;
 const HEAD_W = 150;
 /** Columns and rows beyond which the grid renders only what is on screen. */
@@ -79,6 +79,11 @@ export default function FlowGrid(props: FlowGridProps) {
     return m;
   }, [columnsInOrder]);
   const cols = countColumns(t.inputs.length);
+  // Wide enough for the longest state name (up to 14 characters shown) plus "/" and the output bits, in Fira Code at 14px.
+  const COL_W = useMemo(() => {
+    const name = Math.min(14, Math.max(1, ...t.states.map((n) => n.length)));
+    return Math.min(220, Math.max(MIN_COL_W, Math.ceil((name + t.outputs.length + 1) * 8.6 + 34)));
+  }, [t.states, t.outputs.length]);
   const scrollRef = useRef<HTMLDivElement>(null);
   const gridRef = useRef<HTMLDivElement>(null);
   const [editing, setEditing] = useState<{ text: string; error: string | null; pick: number } | null>(null);
@@ -219,8 +224,8 @@ export default function FlowGrid(props: FlowGridProps) {
       )}
       <div
         ref={scrollRef}
-        className="relative overflow-auto border border-line rounded-md bg-surface max-h-[62vh]"
-        style={{ contain: 'strict', height: Math.min(62 * 16, (t.states.length + 1) * ROW_H + 40) }}
+        className="relative overflow-auto border border-line rounded-md bg-surface max-h-[62vh] max-w-full"
+        style={{ height: Math.min(62 * 16, (t.states.length + 1) * ROW_H + 18), width: HEAD_W + keys.length * COL_W + 18 }}
       >
         <div
           ref={gridRef}
@@ -328,7 +333,7 @@ export default function FlowGrid(props: FlowGridProps) {
                         onPick={(name) => commit(t.outputs.length ? `${name}/${editing.text.split('/')[1] ?? ''}`.replace(/\/$/, '') : name, null)}
                       />
                     ) : (
-                      <CellFace table={t} cell={cell} state={s} />
+                      <CellFace table={t} cell={cell} state={s} width={COL_W} />
                     )}
                     {step !== undefined && (
                       <span className="absolute left-0.5 top-0 text-[0.6rem] font-semibold text-signal-strong" aria-hidden="true">
@@ -341,7 +346,7 @@ export default function FlowGrid(props: FlowGridProps) {
                         aria-hidden="true"
                         title={`${mark} finding here`}
                       >
-                        {mark === 'error' ? '!' : mark === 'warning' ? '▲' : 'i'}
+                        {mark === 'error' ? '!' : mark === 'warning' ? '▲' : '•'}
                       </span>
                     )}
                   </div>
@@ -397,7 +402,7 @@ function cellText(t: FlowTable, cell: number): string {
 }
 
 /** How one cell reads: ring for stable, plain for transient, hatch and a dot for unspecified. */
-function CellFace({ table: t, cell, state }: { table: FlowTable; cell: number; state: number }) {
+function CellFace({ table: t, cell, state, width }: { table: FlowTable; cell: number; state: number; width: number }) {
   const n = t.next[cell]!;
   if (n === NONE) return <span aria-hidden="true">·</span>;
   const stable = n === state;
@@ -408,11 +413,11 @@ function CellFace({ table: t, cell, state }: { table: FlowTable; cell: number; s
   }
   return (
     <span className="flex items-center gap-0.5 max-w-full px-1" aria-hidden="true">
-      <span className={`truncate ${stable ? 'rounded-full border-2 border-settle px-1.5 font-semibold text-settle' : 'px-0.5'}`} style={{ maxWidth: COL_W - 30 }}>
+      <span className={`truncate ${stable ? 'rounded-full border-2 border-settle px-1.5 font-semibold text-settle' : 'px-0.5'}`} style={{ maxWidth: width - 16 - 8.6 * (t.outputs.length + 1) }}>
         {t.states[n]}
       </span>
       {bits.length > 0 && (
-        <span className="text-xs">
+        <span className="text-xs whitespace-nowrap">
           /
           {bits.map((b, i) => (
             <span key={i} className={b.care ? '' : 'text-ink-muted'}>
@@ -507,7 +512,7 @@ function GridLegend({ readOnly }: { readOnly: boolean }) {
         <span className="font-mono">/1–</span> output bits, – = don't care
       </span>
       <span className="flex items-center gap-1">
-        <span className="font-mono text-fault font-bold">!</span>/<span className="font-mono text-caution font-bold">▲</span> finding
+        <span className="font-mono text-fault font-bold">!</span> error · <span className="font-mono text-caution font-bold">▲</span> warning · <span className="font-mono text-note font-bold">•</span> note
       </span>
       {!readOnly && <span>Keys: arrows move · type a state name · Enter edits · - clears · Alt+S stable · Ctrl+Z undo</span>}
     </div>

@@ -157,7 +157,7 @@ function WorkbenchInner({ workspace, controller, revision, head, canEdit, role }
       if (s >= 0 && p.inputs.length === t.inputs.length) cells.push({ state: s, column: keyToColumn(p.inputs) });
     }
     const last = f.path[f.path.length - 1];
-    const ends = last?.kind === 'stable' && f.code !== 'output-glitch' && f.code !== 'order-dependent-double-change' && f.code !== 'output-hazard';
+    const ends = last?.kind === 'stable' && f.code !== 'output-glitch' && f.code !== 'order-dependent-double-change';
     setPath(cells.length ? { cells, end: ends ? 'stable' : 'fail' } : null);
     const target = cells[cells.length - 1] ?? (f.state && t.states.includes(f.state) ? { state: t.states.indexOf(f.state), column: f.inputs !== undefined && f.inputs.length === t.inputs.length ? keyToColumn(f.inputs) : 0 } : null);
     if (target) setSelected(target);
@@ -594,6 +594,9 @@ function ConflictScreen(props: {
         <button type="button" className="q-btn" disabled={!headSource} onClick={() => headSource && props.onKeepMine(headSource)}>
           Keep my whole table on top of r{head}
         </button>
+        <a className="q-btn q-btn-quiet" href={`/w/${encodeURIComponent(workspace)}/c/${encodeURIComponent(controller)}/compare?from=${base}&to=${head}`} target="_blank" rel="noopener">
+          What changed in r{head} (opens the compare)
+        </a>
         <button type="button" className="q-btn q-btn-quiet" onClick={props.onBack}>
           Back to my edits
         </button>

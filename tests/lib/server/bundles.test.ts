@@ -11,7 +11,8 @@ import { interchangeToTable } from '../../../src/lib/engine/model';
 import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { clearBundleBytesCache, ensureBundle, findBundle, loadBundleHashes, readBundleBytes } from '../../../src/lib/server/bundles';
 import { parseRevSpec, resolveBundle } from '../../../src/lib/server/downloads';
-import { getRevision } from '../../../src/lib/server/revisions';
+import { bumpDownloadCache, getCachedDownload, readDownloadEpoch, setCachedDownload } from '../../../src/lib/server/download-cache';
+import { createRevision, getRevision } from '../../../src/lib/server/revisions';
 import * as s from '../../../src/lib/server/schema';
 import * as bundleRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/bundle';
 import * as checksumRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/bundle.sha256';
@@ -131,6 +132,22 @@ describe.each(BACKENDS)('bundles on $name', (backend) => {
       expect(body.revisions[1]!.bundles.rust).toMatch(/^[0-9a-f]{64}$/);
       expect(body.revisions[0]!.review).toBe('none');
     }
+  });
+
+  it('drops cached resolutions when a newer revision is saved, and never stores one read across a change', async () => {
+    const c = await addController(world, 'Cache check');
+    const latest = () => callEndpoint(world, bundleRoute.GET, 'key', { params: { workspace: world.slug, controller: c.slug, rev: 'latest' }, query: { target: 'c' } });
+    expect((await latest()).headers.get('x-quiesce-revision')).toBe('2');
+    expect((await latest()).headers.get('x-quiesce-revision')).toBe('2'); // served from the cache
+    const r2 = (await getRevision(world.db, c.id, 2))!;
+    await createRevision(world.db, { controllerId: c.id, baseNumber: 2, source: r2.source.replace('run/-', 'run/1'), message: 'r3', author: world.users.editor.id });
+    expect((await latest()).headers.get('x-quiesce-revision')).toBe('3');
+    const epoch = readDownloadEpoch();
+    await bumpDownloadCache(world.db);
+    setCachedDownload('stale-entry', epoch, 'old');
+    expect(getCachedDownload('stale-entry')).toBeUndefined();
+    setCachedDownload('fresh-entry', readDownloadEpoch(), 'new');
+    expect(getCachedDownload('fresh-entry')).toBe('new');
   });
 
   it('records key use at most once a minute, with an audit entry', async () => {

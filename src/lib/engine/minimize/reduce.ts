@@ -160,7 +160,9 @@ function shrinkOverlaps(space: CompatibleSpace, classes: number[][], deadline: n
       else sets[x] = before;
     }
   }
-  return sets.map(bitsetToList);
+  // a class inside another one adds nothing (only possible for heuristic covers)
+  const kept = sets.filter((x, i) => !sets.some((y, j) => j !== i && isSubset(x, y) && (countBits(y) > countBits(x) || j < i)));
+  return kept.map(bitsetToList);
 }
 
 function withClassSets(space: CompatibleSpace, sets: readonly Bitset[]): CompatibleClass[] {
