@@ -27,7 +27,7 @@ function newestMtime(entry) {
 
 /** Settings that are baked into the build (astro.config.mjs reads them). */
 function buildSettings() {
-  return { publicOrigin: process.env.PUBLIC_ORIGIN ?? '', allowedHosts: process.env.QUIESCE_ALLOWED_HOSTS ?? '' };
+  return { publicOrigin: process.env.PUBLIC_ORIGIN ?? '', allowedHosts: process.env.QUIESCE_ALLOWED_HOSTS ?? '', nodeEnv: 'production' };
 }
 
 /** Returns the absolute output directory (QUIESCE_OUT_DIR or dist/). */
@@ -50,6 +50,7 @@ export function whyBuild(outDir = outDirOf()) {
   if (stamp.publicOrigin !== settings.publicOrigin || stamp.allowedHosts !== settings.allowedHosts) {
     return 'PUBLIC_ORIGIN or QUIESCE_ALLOWED_HOSTS changed';
   }
+  if (stamp.nodeEnv !== settings.nodeEnv) return 'the previous build was not a production build';
   const newest = Math.max(...SOURCES.map((s) => newestMtime(path.join(ROOT, s))));
   if (newest > stamp.sourcesMtime) return 'sources changed since the last build';
   return null;
@@ -111,6 +112,8 @@ export async function ensureBuilt({ outDir = outDirOf(), log = console.log } = {
       ...process.env,
       QUIESCE_OUT_DIR: outDir,
       ASTRO_TELEMETRY_DISABLED: '1',
+      // vitest sets NODE_ENV=test, which Vite would keep, bundling React's development build.
+      NODE_ENV: 'production',
     });
     fs.writeFileSync(path.join(outDir, STAMP), JSON.stringify({ ...buildSettings(), sourcesMtime, builtAt: new Date().toISOString() }));
     return true;

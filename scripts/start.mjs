@@ -46,7 +46,7 @@ try {
 const child = spawn(process.execPath, [path.join(outDir, 'server', 'entry.mjs')], {
   cwd: ROOT,
   stdio: ['ignore', 'inherit', 'inherit'],
-  env: { ...process.env, HOST: host, PORT: String(port), ASTRO_TELEMETRY_DISABLED: '1' },
+  env: { NODE_ENV: 'production', ...process.env, HOST: host, PORT: String(port), ASTRO_TELEMETRY_DISABLED: '1' },
 });
 let stopping = false;
 for (const signal of ['SIGINT', 'SIGTERM']) {

@@ -93,6 +93,10 @@ export default function FlowGrid(props: FlowGridProps) {
   const virtualRows = t.states.length > VIRTUALIZE_ABOVE;
   const colV = useVirtualizer({ count: keys.length, horizontal: true, getScrollElement: () => scrollRef.current, estimateSize: () => COL_W, overscan: 6, enabled: virtualCols });
   const rowV = useVirtualizer({ count: t.states.length, getScrollElement: () => scrollRef.current, estimateSize: () => ROW_H, overscan: 8, enabled: virtualRows });
+  useEffect(() => {
+    colV.measure();
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [COL_W]);
   const colItems = virtualCols ? colV.getVirtualItems().map((v) => v.index) : keys.map((_, i) => i);
   const rowItems = virtualRows ? rowV.getVirtualItems().map((v) => v.index) : t.states.map((_, i) => i);
   const colPadL = virtualCols && colItems.length ? colItems[0]! * COL_W : 0;

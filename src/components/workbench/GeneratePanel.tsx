@@ -6,7 +6,7 @@
 import { useEffect, useMemo, useState } from 'react';
 import Editor from '@monaco-editor/react';
 import { pickMonacoTheme, setupMonaco } from '../../lib/client/monaco-setup';
-import { downloadBundle, useGeneratePreview } from '../../lib/client/queries';
+import { useDownloadBundle, useGeneratePreview } from '../../lib/client/queries';
 import type { Finding } from '../../lib/engine/findings';
 import type { FlowTable } from '../../lib/engine/model';
 import { downloadText } from './Waveform';
@@ -68,8 +68,9 @@ export function estimateTableBytes(t: FlowTable): { tableBytes: number; stateByt
 export default function GeneratePanel({ workspace, controller, table, source, findings, revisionLabel, valid }: GeneratePanelProps) {
   const [target, setTarget] = useState<'c' | 'rust'>('c');
   const [file, setFile] = useState<string | null>(null);
-  const [busy, setBusy] = useState(false);
   const [error, setError] = useState<string | null>(null);
+  const fetchZip = useDownloadBundle(workspace, controller);
+  const busy = fetchZip.isPending;
   const preview = useGeneratePreview(workspace, controller, source, target, revisionLabel, valid);
   const files = preview.data?.files ?? [];
   useEffect(() => {
@@ -79,17 +80,15 @@ export default function GeneratePanel({ workspace, controller, table, source, fi
   const est = useMemo(() => estimateTableBytes(table), [table]);
   const affecting = findings.filter((f) => CODE_AFFECTING.has(f.code));
 
-  const download = async () => {
-    setBusy(true);
+  const download = () => {
     setError(null);
-    try {
-      const { blob, filename } = await downloadBundle(workspace, controller, source, target, revisionLabel);
-      downloadText(filename ?? `${controller}-${target}.zip`, blob);
-    } catch (e) {
-      setError(e instanceof Error ? e.message : String(e));
-    } finally {
-      setBusy(false);
-    }
+    fetchZip.mutate(
+      { source, target, revision: revisionLabel },
+      {
+        onSuccess: ({ blob, filename }) => downloadText(filename ?? `${controller}-${target}.zip`, blob),
+        onError: (e) => setError(e instanceof Error ? e.message : String(e)),
+      },
+    );
   };
 
   if (!valid) return <p className="q-alert q-alert-fault text-sm">Fix the source errors first: code is generated from a table that parses.</p>;

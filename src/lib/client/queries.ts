@@ -96,7 +96,9 @@ export function useGeneratePreview(workspace: string, controller: string, source
   });
 }
 
-/** Downloads the zip of the current draft source for a target. */
-export function downloadBundle(workspace: string, controller: string, source: string, target: 'c' | 'rust', revision: string) {
-  return apiBlob(`${controllerPath(workspace, controller)}/generate?download=1`, { body: { source, target, revision } });
+/** Fetches the zip of the current draft source for a target (the caller saves the blob). */
+export function useDownloadBundle(workspace: string, controller: string) {
+  return useMutation({
+    mutationFn: (v: { source: string; target: 'c' | 'rust'; revision: string }) => apiBlob(`${controllerPath(workspace, controller)}/generate?download=1`, { body: v }),
+  });
 }

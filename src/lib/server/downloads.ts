@@ -11,7 +11,7 @@ import { bundleFilename, ensureBundle, readBundleBytes, CURRENT_GENERATOR_VERSIO
 import { getCachedDownload, readDownloadEpoch, setCachedDownload } from './download-cache';
 import { ciKeyRowToPrincipal, ciKeyToHash, CI_KEY_PREFIX, keyCanRead, recordCiKeyUse, type CiKeyPrincipal } from './ci-keys';
 import type { Db } from './db';
-import { fail } from './errors';
+import { fail, zodToApiError } from './errors';
 import { can, type Action } from './permissions';
 import { bundles, ciKeys, controllers, memberships, releases, revisions, TARGETS, workspaces, type ControllerRow, type Role, type Target } from './schema';
 
@@ -53,6 +53,24 @@ export const bundleQuerySchema = z
     generator: z.enum(['pinned', 'current']).default('pinned'),
   })
   .strict();
+
+const parsedQueries = new Map<string, z.infer<typeof bundleQuerySchema>>();
+
+/**
+ * Parses the bundle query with bundleQuerySchema (400 naming the parameter), remembering the
+ * few distinct query strings CI sends so a busy URL is not re-validated on every request.
+ */
+export function parseBundleQuery(url: URL): z.infer<typeof bundleQuerySchema> {
+  const known = parsedQueries.get(url.search);
+  if (known) return known;
+  const values: Record<string, string> = {};
+  for (const [k, v] of url.searchParams) values[k] = v;
+  const parsed = bundleQuerySchema.safeParse(values);
+  if (!parsed.success) throw zodToApiError(parsed.error);
+  if (parsedQueries.size >= 64) parsedQueries.clear();
+  parsedQueries.set(url.search, parsed.data);
+  return parsed.data;
+}
 
 /** Whoever reads: a workspace member (by session) or a CI key. */
 export type Reader = { kind: 'user'; userId: string; role: Role } | CiKeyPrincipal;
@@ -213,14 +231,14 @@ export async function resolveBundle(
   credentials: Credentials,
   params: { workspace: string; controller: string; rev: string; target: Target; generator: GeneratorChoice },
 ): Promise<ResolvedBundle> {
-  const spec = parseRevSpec(params.rev);
-  if (!spec) throw fail.notFound('Revision');
   // CI keys hit the same URLs over and over: serve their resolutions from the epoch-checked cache.
   const cacheKey = credentials.bearer !== null ? [ciKeyToHash(credentials.bearer), params.workspace, params.controller, params.rev, params.target, params.generator].join('|') : null;
   if (cacheKey) {
     const hit = getCachedDownload<ResolvedBundle>(cacheKey);
     if (hit) return hit;
   }
+  const spec = parseRevSpec(params.rev);
+  if (!spec) throw fail.notFound('Revision');
   const epoch = readDownloadEpoch();
   const access = await requireControllerAccess(db, credentials, params.workspace, params.controller, 'bundle.download');
   const resolved = await resolveRevisionWithBundle(db, access.controller, spec, { target: params.target, choice: params.generator });

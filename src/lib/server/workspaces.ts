@@ -91,7 +91,7 @@ export async function listWorkspacesForUser(db: Db, userId: string): Promise<Wor
     .leftJoin(memberCount, eq(memberCount.workspaceId, workspaces.id))
     .leftJoin(controllerCount, eq(controllerCount.workspaceId, workspaces.id))
     .where(eq(memberships.userId, userId))
-    .orderBy(asc(workspaces.name));
+    .orderBy(asc(workspaces.name), asc(workspaces.slug));
   return rows.map((r) => ({ ...r, members: Number(r.members ?? 0), controllers: Number(r.controllers ?? 0) }));
 }
 

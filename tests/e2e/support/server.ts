@@ -68,7 +68,7 @@ export async function startServer(options: StartOptions = {}): Promise<TestServe
   const port = await findFreePort();
   const dataDir = options.dataDir ?? fs.mkdtempSync(path.join(os.tmpdir(), 'quiesce-e2e-'));
   const env: Record<string, string> = {};
-  for (const [k, v] of Object.entries({ ...process.env, HOST: '127.0.0.1', PORT: String(port), QUIESCE_DATA_DIR: dataDir, QUIESCE_DEMO: '1', ASTRO_TELEMETRY_DISABLED: '1', SMTP_URL: undefined, DATABASE_URL: undefined, ...options.env })) {
+  for (const [k, v] of Object.entries({ ...process.env, HOST: '127.0.0.1', PORT: String(port), QUIESCE_DATA_DIR: dataDir, QUIESCE_DEMO: '1', ASTRO_TELEMETRY_DISABLED: '1', NODE_ENV: 'production', SMTP_URL: undefined, DATABASE_URL: undefined, ...options.env })) {
     if (v !== undefined) env[k] = v;
   }
   const child = spawn(process.execPath, [path.join(outDir, 'server', 'entry.mjs')], { cwd: ROOT, env, stdio: ['ignore', 'pipe', 'pipe'] });

@@ -16,7 +16,6 @@ import {
   firstBit,
   isEmptyBitset,
   isSubset,
-  orInto,
   setBit,
   type Bitset,
 } from './bitset';
@@ -328,11 +327,4 @@ export function findPrimeCompatibles(
     primes: r.primes.map((p) => ({ states: bitsetToList(p.states), classSet: p.classSet.map(bitsetToList) })),
     complete: maximal.complete && r.complete,
   };
-}
-
-/** Union of the given sets (a helper for callers that build classes). */
-export function unionBitsets(size: number, sets: readonly Bitset[]): Bitset {
-  const u = createBitset(size);
-  for (const s of sets) orInto(u, s);
-  return u;
 }

@@ -117,6 +117,13 @@ export function buildImplicationChart(t: FlowTable): ImplicationChart {
   let impliedCol: Int32Array = new Int32Array(impliedPair.length);
   let impliedLen = 0;
   const stamp = new Int32Array(pairCount);
+  // per state, the columns where it specifies something; a pair only needs the sparser list
+  const active: Int32Array[] = [];
+  for (let s = 0; s < n; s++) {
+    const list: number[] = [];
+    for (const c of reps) if (t.next[s * cols + c] !== NONE || t.outCare[s * cols + c] !== 0) list.push(c);
+    active.push(Int32Array.from(list));
+  }
   const queue = new Int32Array(pairCount);
   let qTail = 0;
 
@@ -124,8 +131,9 @@ export function buildImplicationChart(t: FlowTable): ImplicationChart {
     for (let i = 0; i < j; i++) {
       const p = pairIndex(i, j);
       impliedStart[p] = impliedLen;
+      const scan = active[i]!.length <= active[j]!.length ? active[i]! : active[j]!;
       let conflict = false;
-      for (const c of reps) {
+      for (const c of scan) {
         const a = i * cols + c;
         const b = j * cols + c;
         const diff = t.outCare[a]! & t.outCare[b]! & (t.outValue[a]! ^ t.outValue[b]!);
@@ -140,7 +148,7 @@ export function buildImplicationChart(t: FlowTable): ImplicationChart {
         }
       }
       if (conflict) continue;
-      for (const c of reps) {
+      for (const c of scan) {
         const na = t.next[i * cols + c]!;
         const nb = t.next[j * cols + c]!;
         if (na === NONE || nb === NONE || na === nb) continue;

@@ -67,15 +67,15 @@ export interface MinimizeResult {
 export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): MinimizeResult {
   const start = now();
   const budget = options.timeBudgetMs ?? DEFAULT_TIME_BUDGET_MS;
-  // phases share the time budget; the last tenth is kept for the fallback heuristic
-  const deadline = start + budget;
-  const searchDeadline = start + 0.9 * budget;
+  // phases share the time budget: listing compatibles, then the exact search, then heuristics
+  const at = (fraction: number): number => start + fraction * budget;
+  const deadline = at(1);
   const n = t.states.length;
   const chart = buildImplicationChart(t);
-  const maximal = enumerateMaximalCompatibles(chart, { limit: options.maximalLimit ?? 20_000, deadline: start + 0.3 * budget });
+  const maximal = enumerateMaximalCompatibles(chart, { limit: options.maximalLimit ?? 20_000, deadline: at(0.25) });
   const space = createCompatibleSpace(t);
   const primes = maximal.complete
-    ? enumeratePrimeCompatibles(space, maximal.sets, { limit: options.primeLimit ?? 200_000, deadline: start + 0.6 * budget })
+    ? enumeratePrimeCompatibles(space, maximal.sets, { limit: options.primeLimit ?? 200_000, deadline: at(0.5) })
     : undefined;
 
   let classes: number[][] | undefined;
@@ -85,23 +85,28 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
   if (primes?.complete) {
     const r = searchMinimumCover(n, primes.primes, {
       nodeBudget: options.nodeBudget ?? DEFAULT_NODE_BUDGET,
-      timeBudgetMs: Math.max(0, searchDeadline - now()),
+      timeBudgetMs: Math.max(0, at(0.8) - now()),
     });
     nodes = r.nodes;
     if (r.classes.length > 0) {
       classes = r.classes;
       exact = r.exact;
-      method = r.exact ? 'exact' : 'budget';
     }
-  } else {
-    const pool = withClassSets(space, maximal.sets);
-    if (primes) pool.push(...primes.primes);
-    classes = searchHeuristicCover(n, pool, (b) => computeClassSet(space, b), { deadline: searchDeadline })?.classes;
+    method = r.exact ? 'exact' : 'budget';
   }
   if (!exact) {
+    const offer = (c: number[][] | undefined): void => {
+      if (c && (!classes || c.length < classes.length)) classes = c;
+    };
     // the merge heuristic is polynomial and never worse than one row per state
-    const partition = findClosedPartition(t, chart, { deadline: Math.max(deadline, now() + 50) });
-    if (!classes || partition.length < classes.length) classes = partition;
+    offer(findClosedPartition(t, chart, { deadline: Math.max(deadline, now() + 0.15 * budget) }));
+    // a greedy cover over the compatibles listed so far, when they are few enough to handle quickly
+    const listed = maximal.sets.length + (primes?.primes.length ?? 0);
+    if (!primes?.complete && maximal.complete && listed <= 5_000 && now() < deadline) {
+      const pool = withClassSets(space, maximal.sets);
+      if (primes) pool.push(...primes.primes);
+      offer(searchHeuristicCover(n, pool, (b) => computeClassSet(space, b), { deadline })?.classes);
+    }
   }
   if (!classes) throw new Error('minimizeTable: no cover was built');
   classes = shrinkOverlaps(space, classes, Math.max(deadline, now() + 50));

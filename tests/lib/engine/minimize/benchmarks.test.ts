@@ -19,9 +19,10 @@ import { describe, expect, it } from 'vitest';
 import { parseKiss2 } from '../../../../src/lib/engine/formats/kiss2';
 import { minimizeTable, verifyReduction } from '../../../../src/lib/engine/minimize/index';
 import { findClosedPartition } from '../../../../src/lib/engine/minimize/partition';
+import { KISS2_DIR } from '../../../support/check-data';
 import { isClosedCover, naiveCompatibility } from '../../../support/minimize-oracle';
 
-const DIR = join(__dirname, '../../../../../shared/check-data/kiss2');
+const DIR = KISS2_DIR;
 
 function load(file: string) {
   return parseKiss2(readFileSync(join(DIR, file), 'utf8'), { name: file.replace(/\.kiss2?$/, '') });

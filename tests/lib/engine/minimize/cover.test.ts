@@ -8,11 +8,12 @@ import { findGreedyCover, findMinimumCover, findPrimeCompatibles, minimizeTable,
 import { buildImplicationChart } from '../../../../src/lib/engine/minimize/implication-chart';
 import { findClosedPartition } from '../../../../src/lib/engine/minimize/partition';
 import { arbitraryTable } from '../../../support/arbitrary-table';
+import { KISS2_DIR } from '../../../support/check-data';
 import { allCompatibles, bruteMinimumCoverSize, brutePrimes, isClosedCover, naiveCompatibility } from '../../../support/minimize-oracle';
 
 // MCNC/LGSynth'91 benchmark set (check-data/kiss2); ex3 reduces from 10 to 4 states
 // (README sources R: Rho, Hachtel, Somenzi and Jacoby 1994, from memory; C: independent exact computation)
-const EX3 = parseKiss2(readFileSync(join(__dirname, '../../../../../shared/check-data/kiss2/ex3.kiss2'), 'utf8'), { name: 'ex3' });
+const EX3 = parseKiss2(readFileSync(join(KISS2_DIR, 'ex3.kiss2'), 'utf8'), { name: 'ex3' });
 
 const small = (maxStates: number) => arbitraryTable({ maxStates, maxInputs: 2, hostileNames: false, extras: false, unspecified: 0.5 });
 

@@ -1,12 +1,12 @@
 /** GET: the bundle's checksum as `<sha256>  <filename>` (sha256sum format); same rules as …/bundle. */
 import type { APIRoute } from 'astro';
-import { credentialsOf, dbOf, parseQuery, respond } from '../../../../../../../../../lib/server/api-v1';
-import { bundleQuerySchema, checksumResponse, recordDownload, resolveBundle } from '../../../../../../../../../lib/server/downloads';
+import { credentialsOf, dbOf, respond } from '../../../../../../../../../lib/server/api-v1';
+import { parseBundleQuery, checksumResponse, recordDownload, resolveBundle } from '../../../../../../../../../lib/server/downloads';
 
 export const GET: APIRoute = (ctx) =>
   respond(async () => {
     const db = dbOf(ctx);
-    const query = parseQuery(ctx.url, bundleQuerySchema);
+    const query = parseBundleQuery(ctx.url);
     const resolved = await resolveBundle(db, credentialsOf(ctx), {
       workspace: String(ctx.params.workspace ?? ''),
       controller: String(ctx.params.controller ?? ''),

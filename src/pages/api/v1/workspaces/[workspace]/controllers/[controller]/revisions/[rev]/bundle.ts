@@ -4,13 +4,13 @@
  * session cookie. ETag is the quoted sha256; If-None-Match answers 304. Any miss is 404.
  */
 import type { APIRoute } from 'astro';
-import { credentialsOf, dbOf, parseQuery, respond } from '../../../../../../../../../lib/server/api-v1';
-import { bundleQuerySchema, bundleResponse, recordDownload, resolveBundle } from '../../../../../../../../../lib/server/downloads';
+import { credentialsOf, dbOf, respond } from '../../../../../../../../../lib/server/api-v1';
+import { parseBundleQuery, bundleResponse, recordDownload, resolveBundle } from '../../../../../../../../../lib/server/downloads';
 
 const serve = (method: 'GET' | 'HEAD'): APIRoute => (ctx) =>
   respond(async () => {
     const db = dbOf(ctx);
-    const query = parseQuery(ctx.url, bundleQuerySchema);
+    const query = parseBundleQuery(ctx.url);
     const resolved = await resolveBundle(db, credentialsOf(ctx), {
       workspace: String(ctx.params.workspace ?? ''),
       controller: String(ctx.params.controller ?? ''),
