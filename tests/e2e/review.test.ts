@@ -215,6 +215,10 @@ describe('review and release (Chromium, built server)', () => {
     fs.copyFileSync(first, path.join(tmp, 'door-interlock-r3-c.zip'));
     const check = await run('bash', ['-c', `printf '%s' "$LINE" | sha256sum -c -`], { cwd: tmp, env: { ...process.env, LINE: stdout } });
     expect(check.stdout).toMatch(/door-interlock-r3-c\.zip: OK/);
+    // HEAD answers the headers only.
+    const headOnly = await run('curl', ['-sSI', ...auth, `${base}/bundle?target=c`]);
+    expect(headOnly.stdout).toMatch(/^HTTP\/1\.1 200/);
+    expect(headOnly.stdout).toMatch(new RegExp(`content-length: ${bytes.byteLength}`, 'i'));
     // If-None-Match with the ETag answers 304; a wrong key answers 404.
     const cached = await run('curl', ['-sS', ...auth, '-o', '/dev/null', '-w', '%{http_code}', '-H', `If-None-Match: "${sha}"`, `${base}/bundle?target=c`]);
     expect(cached.stdout).toBe('304');

@@ -255,12 +255,13 @@ describe('controller workbench (Chromium, built server)', () => {
   });
 
   it('shows a viewer no edit controls', async () => {
-    const viewer = await launchBrowser();
+    const viewer = await launchBrowser({ colorScheme: 'dark' }); // the viewer's screenshots show the dark theme
     const vp = await viewer.newPage();
     await vp.setViewportSize({ width: 1440, height: 1000 });
     await signIn(vp, account('viewer').email, account('viewer').password);
     await vp.goto(`${origin()}/w/${ws}/c/gated-latch`);
     await vp.getByTestId('workbench').waitFor();
+    await shot('12a-viewer-table-dark', vp);
     expect(await vp.getByTestId('workbench').getAttribute('data-role')).toBe('viewer');
     expect(await vp.getByTestId('save-open').count()).toBe(0);
     expect(await vp.getByRole('button', { name: /undo|redo|\+ state|\+ input|\+ output|make stable|clear cell/i }).count()).toBe(0);
@@ -272,7 +273,7 @@ describe('controller workbench (Chromium, built server)', () => {
     expect(await vp.getByTestId('settings-panel').locator('input, select, textarea').count()).toBe(0);
     await openView('Source', vp);
     await vp.locator('[data-testid="source-editor"] .view-lines').waitFor({ timeout: 30_000 });
-    await shot('12-viewer-source', vp);
+    await shot('12b-viewer-source-dark', vp);
     await vp.goto(`${origin()}/w/${ws}/controllers`);
     await vp.getByTestId('controller-list').waitFor();
     expect(await vp.getByTestId('new-controller').count()).toBe(0);

@@ -25,14 +25,16 @@ export default function FillPanel({ table, readOnly, onApply, onShowCell }: Fill
       {r.assignments.length === 0 ? (
         <p className="q-alert q-alert-ok text-sm">Nothing to fill: no don't-care output can cause a glitch.</p>
       ) : (
-        <table className="q-table font-mono text-sm" data-testid="fill-assignments">
+        <table className="q-table font-mono text-sm max-w-2xl" data-testid="fill-assignments">
           <thead>
             <tr>
               <th scope="col">state</th>
               <th scope="col">inputs</th>
               <th scope="col">output</th>
               <th scope="col">becomes</th>
-              <th scope="col" className="sr-only">show</th>
+              <th scope="col">
+                <span className="sr-only">show in the table</span>
+              </th>
             </tr>
           </thead>
           <tbody>

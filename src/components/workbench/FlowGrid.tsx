@@ -160,7 +160,14 @@ export default function FlowGrid(props: FlowGridProps) {
   const onGridKey = (e: ReactKeyboardEvent<HTMLDivElement>) => {
     if (editing) return;
     const k = e.key;
-    if (k === 'ArrowUp') move(-1, 0);
+    if (!readOnly && e.altKey && k === 'Enter') setMenu({ kind: 'state', index: sel.state });
+    else if (!readOnly && e.altKey && (k === 'ArrowUp' || k === 'ArrowDown')) {
+      const to = sel.state + (k === 'ArrowUp' ? -1 : 1);
+      if (to >= 0 && to < t.states.length) {
+        onEdit({ kind: 'move-state', from: sel.state, to });
+        onSelect({ state: to, column: sel.column });
+      }
+    } else if (k === 'ArrowUp') move(-1, 0);
     else if (k === 'ArrowDown') move(1, 0);
     else if (k === 'ArrowLeft') move(0, -1);
     else if (k === 'ArrowRight') move(0, 1);
@@ -518,7 +525,7 @@ function GridLegend({ readOnly }: { readOnly: boolean }) {
       <span className="flex items-center gap-1">
         <span className="font-mono text-fault font-bold">!</span> error · <span className="font-mono text-caution font-bold">▲</span> warning · <span className="font-mono text-note font-bold">•</span> note
       </span>
-      {!readOnly && <span>Keys: arrows move · type a state name · Enter edits · - clears · Alt+S stable · Ctrl+Z undo</span>}
+      {!readOnly && <span>Keys: arrows move · type a state name · Enter edits · - clears · Alt+S stable · Alt+Enter state menu · Alt+↑/↓ move row · Ctrl+Z undo</span>}
     </div>
   );
 }

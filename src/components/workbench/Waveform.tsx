@@ -113,7 +113,7 @@ const Waveform = forwardRef<SVGSVGElement, WaveformProps>(function Waveform({ in
             {slots.map((s, i) => {
               const bits = lane.kind === 'in' ? s.inputs : s.outputs;
               return (
-                <text key={i} x={x0 + i * SLOT_W + SLOT_W - 8} y={y + LANE_H / 2 + 3} textAnchor="end" fill="var(--q-ink-muted, #555)" fontSize={9} data-value={bits[bitIndex]}>
+                <text key={i} x={x0 + i * SLOT_W + SLOT_W - 8} y={y + LANE_H / 2 + 3} textAnchor="end" fill="var(--q-ink-muted, #555)" fontSize={10} data-value={bits[bitIndex]}>
                   {bits[bitIndex]}
                 </text>
               );

@@ -67,12 +67,6 @@ export function intersects(a: Bitset, b: Bitset): boolean {
   return false;
 }
 
-/** True when both sets have the same members. */
-export function bitsetsEqual(a: Bitset, b: Bitset): boolean {
-  for (let w = 0; w < a.length; w++) if (a[w] !== b[w]) return false;
-  return true;
-}
-
 /** `a ∩ b` as a new set. */
 export function andBitsets(a: Bitset, b: Bitset): Bitset {
   const r = new Uint32Array(a.length);
@@ -104,15 +98,6 @@ export function bitsetToList(b: Bitset): number[] {
     }
   }
   return out;
-}
-
-/** Smallest member, or -1 when empty. */
-export function firstBit(b: Bitset): number {
-  for (let w = 0; w < b.length; w++) {
-    const x = b[w]!;
-    if (x !== 0) return (w << 5) + (31 - Math.clz32(x & -x));
-  }
-  return -1;
 }
 
 /** A string that identifies the set's members (for hashing). */

@@ -13,7 +13,6 @@ import {
   compareBitsets,
   countBits,
   createBitset,
-  firstBit,
   isEmptyBitset,
   isSubset,
   setBit,

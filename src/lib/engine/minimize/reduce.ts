@@ -44,6 +44,8 @@ export interface MinimizeStats {
   primeCompatibles: number;
   /** `exact`: search finished; `budget`: the node or time budget stopped it; `heuristic`: too many compatibles to search. */
   method: CoverMethod;
+  /** Proven lower bound on the row count (pairwise incompatible states, or the search's root bound). */
+  lowerBound: number;
 }
 
 /** Outcome of `minimizeTable`. */
@@ -82,12 +84,14 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
   let exact = false;
   let nodes = 0;
   let method: CoverMethod = 'heuristic';
+  let lowerBound = countIncompatibleStates(chart);
   if (primes?.complete) {
     const r = searchMinimumCover(n, primes.primes, {
       nodeBudget: options.nodeBudget ?? DEFAULT_NODE_BUDGET,
       timeBudgetMs: Math.max(0, at(0.8) - now()),
     });
     nodes = r.nodes;
+    lowerBound = Math.max(lowerBound, r.lowerBound);
     if (r.classes.length > 0) {
       classes = r.classes;
       exact = r.exact;
@@ -109,6 +113,8 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
     }
   }
   if (!classes) throw new Error('minimizeTable: no cover was built');
+  // a heuristic cover that meets the lower bound is a minimum too
+  if (classes.length <= lowerBound) exact = true;
   classes = shrinkOverlaps(space, classes, Math.max(deadline, now() + 50));
   classes = classes.map((c) => c.slice().sort((a, b) => a - b)).sort(compareLists);
   const table = buildReducedTable(t, classes);
@@ -127,8 +133,22 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
       maximalCompatibles: maximal.sets.length,
       primeCompatibles: primes?.primes.length ?? 0,
       method,
+      lowerBound,
     },
   };
+}
+
+/**
+ * Size of a set of pairwise incompatible states (each needs its own row), found greedily,
+ * states with the fewest compatible partners first.
+ */
+export function countIncompatibleStates(chart: ImplicationChart): number {
+  const n = chart.stateCount;
+  const degree = chart.neighbours.map(countBits);
+  const order = Array.from({ length: n }, (_, s) => s).sort((a, b) => degree[a]! - degree[b]! || a - b);
+  const picked: number[] = [];
+  for (const s of order) if (picked.every((q) => !chart.isCompatible(s, q))) picked.push(s);
+  return picked.length;
 }
 
 /** True when every implied class of every class lies inside some class. */
