@@ -144,7 +144,7 @@ export function arbitraryTable(opts: ArbitraryTableOptions = {}): fc.Arbitrary<F
           reset: r.reset,
           ...(r.description !== undefined ? { description: r.description } : {}),
           settings: { doubleChange: r.policy, ...(r.prefix !== undefined ? { prefix: r.prefix } : {}) },
-          scenarios: r.scenarios,
+          scenarios: [...r.scenarios],
         });
         r.cells.forEach((c, i) => {
           if (c.u < unspecified * 1000) return;

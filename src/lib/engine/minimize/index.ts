@@ -12,6 +12,7 @@ export {
 export { findGreedyCover, findMinimumCover, type CoverCandidate, type CoverOptions, type CoverResult } from './cover';
 export {
   buildReducedTable,
+  countIncompatibleStates,
   minimizeTable,
   nameClasses,
   verifyReduction,

@@ -106,7 +106,7 @@ export function minimizeTable(t: FlowTable, options: MinimizeOptions = {}): Mini
     offer(findClosedPartition(t, chart, { deadline: Math.max(deadline, now() + 0.15 * budget) }));
     // a greedy cover over the compatibles listed so far, when they are few enough to handle quickly
     const listed = maximal.sets.length + (primes?.primes.length ?? 0);
-    if (!primes?.complete && maximal.complete && listed <= 5_000 && now() < deadline) {
+    if (!primes?.complete && maximal.complete && listed <= 50_000 && now() < deadline) {
       const pool = withClassSets(space, maximal.sets);
       if (primes) pool.push(...primes.primes);
       offer(searchHeuristicCover(n, pool, (b) => computeClassSet(space, b), { deadline })?.classes);

@@ -137,6 +137,7 @@ describe('minimizeTable (property tests on random tables)', () => {
         const r = minimizeTable(t, { timeBudgetMs: 60_000 });
         expect(r.exact).toBe(true);
         expect(r.classes.length).toBeLessThanOrEqual(t.states.length);
+        expect(r.stats.lowerBound).toBeLessThanOrEqual(r.classes.length);
         expect(r.table.states.length).toBe(r.classes.length);
         expect(isClosedCover(t, naiveCompatibility(t), r.classes)).toBe(true);
         expect(verifyReduction(t, r.table, r.classes)).toEqual([]);
