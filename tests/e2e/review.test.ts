@@ -64,7 +64,7 @@ function setCell(source: string, state: string, key: string, cell: string): stri
 }
 
 async function saveRevision(p: Page, base: number, source: string, message: string): Promise<number> {
-  const res = await p.request.post(`${server.url}/api/workspaces/${ws}/controllers/${CONTROLLER}/revisions`, { data: { base, source, message } });
+  const res = await p.request.post(`${server.url}/api/v1/workspaces/${ws}/controllers/${CONTROLLER}/revisions`, { data: { base, source, message } });
   expect(res.status(), await res.text()).toBe(201);
   return ((await res.json()) as { revision: { number: number } }).revision.number;
 }
@@ -85,7 +85,7 @@ describe('review and release (Chromium, built server)', () => {
 
   it('saves two revisions as the demo editor', async () => {
     await signIn(page, 'editor');
-    const r1 = await page.request.get(`${server.url}/api/workspaces/${ws}/controllers/${CONTROLLER}/revisions/1`);
+    const r1 = await page.request.get(`${server.url}/api/v1/workspaces/${ws}/controllers/${CONTROLLER}/revisions/1`);
     expect(r1.status()).toBe(200);
     const source1 = ((await r1.json()) as { revision: { source: string } }).revision.source;
     // r2: opening the door while running with the key released (a double change) now drops to idle.

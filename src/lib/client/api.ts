@@ -58,7 +58,7 @@ export async function apiBlob(path: string, init: { method?: string; body?: unkn
 
 /** The API base path of a workspace's controllers. */
 export function controllersPath(workspace: string): string {
-  return `/api/workspaces/${encodeURIComponent(workspace)}/controllers`;
+  return `/api/v1/workspaces/${encodeURIComponent(workspace)}/controllers`;
 }
 
 /** The API base path of one controller. */

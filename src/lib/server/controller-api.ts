@@ -4,8 +4,8 @@
  */
 import type { APIContext } from 'astro';
 import { z } from 'zod';
+import { dbOf } from './api-v1';
 import { requireController } from './controllers';
-import type { Db } from './db';
 import { jsonError, toApiError } from './errors';
 import { requireMemberAction, type Action, type MemberContext } from './permissions';
 import { SourceError, StaleBaseError } from './revisions';
@@ -14,10 +14,7 @@ import type { ControllerRow } from './schema';
 /** A positive revision number in a path or query. */
 export const revisionNumberSchema = z.coerce.number().int().min(1).max(1_000_000);
 
-/** The database of this request (the middleware opened it). */
-export function dbOf(ctx: Pick<APIContext, 'locals'>): Db {
-  return (ctx.locals as { db: Db }).db;
-}
+export { dbOf };
 
 /** Guards a workspace route: signed in (401), member (404), role allows `action` (403). */
 export async function guardWorkspace(ctx: Pick<APIContext, 'locals' | 'params'>, action: Action): Promise<MemberContext> {

@@ -6,12 +6,12 @@ import { createRevision, getHeadRevision, StaleBaseError } from '../../../src/li
 import { revisions } from '../../../src/lib/server/schema';
 import { analyzeTable } from '../../../src/lib/engine/analyze';
 import { parseText } from '../../../src/lib/engine/formats/text';
-import * as listRoute from '../../../src/pages/api/workspaces/[workspace]/controllers/index';
-import * as oneRoute from '../../../src/pages/api/workspaces/[workspace]/controllers/[controller]/index';
-import * as exportRoute from '../../../src/pages/api/workspaces/[workspace]/controllers/[controller]/export';
-import * as saveRoute from '../../../src/pages/api/workspaces/[workspace]/controllers/[controller]/revisions/index';
-import * as revRoute from '../../../src/pages/api/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/index';
-import * as generateRoute from '../../../src/pages/api/workspaces/[workspace]/controllers/[controller]/generate';
+import * as listRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/index';
+import * as oneRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/index';
+import * as exportRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/export';
+import * as saveRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/index';
+import * as revRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/index';
+import * as generateRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/generate';
 import { BACKENDS } from './support/backends';
 import { buildWorld, callEndpoint, type Caller, type World } from './support/review-world';
 

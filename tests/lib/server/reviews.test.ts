@@ -9,7 +9,7 @@ import * as s from '../../../src/lib/server/schema';
 import * as commentsRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/comments';
 import * as reviewsRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/reviews';
 import * as verdictRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/verdict';
-import * as saveRoute from '../../../src/pages/api/workspaces/[workspace]/controllers/[controller]/revisions/index';
+import * as saveRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/index';
 import { BACKENDS } from './support/backends';
 import { addController, buildWorld, callEndpoint, CALLERS, editStarterSource, type Caller, type World } from './support/review-world';
 

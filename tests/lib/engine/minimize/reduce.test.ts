@@ -162,10 +162,10 @@ describe('minimizeTable (property tests on random tables)', () => {
 
   it('steps like the original, cell by cell, wherever the original is specified', () => {
     fc.assert(
-      fc.property(tables, fc.array(fc.nat(), { minLength: 1, maxLength: 30 }), fc.nat(), (t, columns, startSeed) => {
+      fc.property(tables, fc.array(fc.nat(), { minLength: 1, maxLength: 30 }), fc.nat(), (t, columns, startPick) => {
         const r = minimizeTable(t, { timeBudgetMs: 60_000 });
         const cols = countColumns(t.inputs.length);
-        let s = startSeed % t.states.length;
+        let s = startPick % t.states.length;
         let x = r.classes.findIndex((c) => c.includes(s));
         for (const raw of columns) {
           const c = raw % cols;

@@ -5,11 +5,11 @@
  */
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
-import { codegenTargetSchema, generateBundle } from '../../../../../../lib/codegen';
-import { countColumns } from '../../../../../../lib/engine/model';
-import { guardController, handle } from '../../../../../../lib/server/controller-api';
-import { json, readJson } from '../../../../../../lib/server/http';
-import { MAX_UPLOAD_BYTES, parseOrFail } from '../../../../../../lib/server/revisions';
+import { codegenTargetSchema, generateBundle } from '../../../../../../../lib/codegen';
+import { countColumns } from '../../../../../../../lib/engine/model';
+import { guardController, handle } from '../../../../../../../lib/server/controller-api';
+import { json, readJson } from '../../../../../../../lib/server/http';
+import { MAX_UPLOAD_BYTES, parseOrFail } from '../../../../../../../lib/server/revisions';
 
 const bodySchema = z
   .object({

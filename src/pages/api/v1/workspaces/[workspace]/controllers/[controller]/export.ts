@@ -1,10 +1,10 @@
 /** GET ?format=text|json|kiss2|csv[&rev=N]: a revision (head by default) as a file download. */
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
-import { FORMATS } from '../../../../../../lib/engine/formats';
-import { exportController } from '../../../../../../lib/server/controllers';
-import { dbOf, guardController, handle, revisionNumberSchema } from '../../../../../../lib/server/controller-api';
-import { zodToApiError } from '../../../../../../lib/server/errors';
+import { FORMATS } from '../../../../../../../lib/engine/formats';
+import { exportController } from '../../../../../../../lib/server/controllers';
+import { dbOf, guardController, handle, revisionNumberSchema } from '../../../../../../../lib/server/controller-api';
+import { zodToApiError } from '../../../../../../../lib/server/errors';
 
 const querySchema = z.object({ format: z.enum(FORMATS).default('text'), rev: revisionNumberSchema.optional() });
 

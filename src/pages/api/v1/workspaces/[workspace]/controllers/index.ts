@@ -1,12 +1,12 @@
 /** GET: the workspace's controllers. POST: create one (blank, starter, or upload). */
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
-import { FORMATS, formatFromFilename } from '../../../../../lib/engine/formats';
-import { createController, CREATE_KINDS, summarizeControllers } from '../../../../../lib/server/controllers';
-import { dbOf, guardWorkspace, handle } from '../../../../../lib/server/controller-api';
-import { fail } from '../../../../../lib/server/errors';
-import { json, readJson } from '../../../../../lib/server/http';
-import { MAX_UPLOAD_BYTES } from '../../../../../lib/server/revisions';
+import { FORMATS, formatFromFilename } from '../../../../../../lib/engine/formats';
+import { createController, CREATE_KINDS, summarizeControllers } from '../../../../../../lib/server/controllers';
+import { dbOf, guardWorkspace, handle } from '../../../../../../lib/server/controller-api';
+import { fail } from '../../../../../../lib/server/errors';
+import { json, readJson } from '../../../../../../lib/server/http';
+import { MAX_UPLOAD_BYTES } from '../../../../../../lib/server/revisions';
 
 const createSchema = z
   .object({

@@ -1,12 +1,12 @@
 /** GET: one controller with its head revision. PATCH: rename or archive/restore it. */
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
-import { renameController, setControllerArchived } from '../../../../../../lib/server/controllers';
-import { dbOf, guardController, handle } from '../../../../../../lib/server/controller-api';
-import { fail } from '../../../../../../lib/server/errors';
-import { json, readJson } from '../../../../../../lib/server/http';
-import { requireAction } from '../../../../../../lib/server/permissions';
-import { getHeadRevision } from '../../../../../../lib/server/revisions';
+import { renameController, setControllerArchived } from '../../../../../../../lib/server/controllers';
+import { dbOf, guardController, handle } from '../../../../../../../lib/server/controller-api';
+import { fail } from '../../../../../../../lib/server/errors';
+import { json, readJson } from '../../../../../../../lib/server/http';
+import { requireAction } from '../../../../../../../lib/server/permissions';
+import { getHeadRevision } from '../../../../../../../lib/server/revisions';
 
 const patchSchema = z
   .object({

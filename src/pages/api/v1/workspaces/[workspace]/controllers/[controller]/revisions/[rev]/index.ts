@@ -1,9 +1,9 @@
 /** GET: one revision (canonical source, interchange JSON, findings counts). */
 import type { APIRoute } from 'astro';
-import { dbOf, guardController, handle, revisionNumberSchema } from '../../../../../../../../lib/server/controller-api';
-import { fail } from '../../../../../../../../lib/server/errors';
-import { json } from '../../../../../../../../lib/server/http';
-import { getRevision } from '../../../../../../../../lib/server/revisions';
+import { dbOf, guardController, handle, revisionNumberSchema } from '../../../../../../../../../lib/server/controller-api';
+import { fail } from '../../../../../../../../../lib/server/errors';
+import { json } from '../../../../../../../../../lib/server/http';
+import { getRevision } from '../../../../../../../../../lib/server/revisions';
 
 export const GET: APIRoute = (ctx) =>
   handle(async () => {
