@@ -38,6 +38,23 @@ if (missing.length > 0) {
   }
 }
 
+// The generated firmware is compiled and run in the tests: a host C toolchain and Rust with clippy and rustfmt.
+const TOOLS = [
+  ['gcc', ['--version'], 'apt-get install -y gcc'],
+  ['make', ['--version'], 'apt-get install -y make'],
+  ['cargo', ['--version'], 'install Rust with rustup (https://rustup.rs is not reachable here: use the machine image\'s toolchain)'],
+  ['cargo', ['clippy', '--version'], 'rustup component add clippy'],
+  ['cargo', ['fmt', '--version'], 'rustup component add rustfmt'],
+];
+const cargoBin = `${process.env.CARGO_HOME ?? `${process.env.HOME ?? ''}/.cargo`}/bin`;
+process.env.PATH = `${cargoBin}:${process.env.PATH ?? ''}`;
+for (const [cmd, args, fix] of TOOLS) {
+  if (spawnSync(cmd, args, { stdio: 'ignore' }).status !== 0) {
+    console.error(`[pretest] \`${cmd} ${args.join(' ')}\` does not run; the generated-code tests need it. Fix: ${fix}`);
+    process.exit(1);
+  }
+}
+
 try {
   await ensureBuilt({ log: (m) => console.log(m.replace('[quiesce]', '[pretest]')) });
 } catch (error) {

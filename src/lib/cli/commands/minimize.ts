@@ -19,7 +19,7 @@ export const command: CliCommand = {
     'Reduces the number of rows: compatible pairs from the implication chart, maximal and prime compatibles, then a minimum closed cover by branch and bound within the budgets (a heuristic cover past them; "exact" says which). Prints the classes and the reduced table.',
   options: {
     json: JSON_OPTION,
-    'time-budget': { type: 'string', value: 'MS', description: 'most milliseconds for the exact search (default 2000)' },
+    'time-budget': { type: 'string', value: 'MS', description: 'most milliseconds for the whole minimization; past it a heuristic cover is used (default 2000)' },
     'node-budget': { type: 'string', value: 'N', description: 'most branch-and-bound nodes (default 200000)' },
     from: FROM_OPTION,
   },
