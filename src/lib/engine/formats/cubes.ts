@@ -2,6 +2,7 @@
  * Input cubes: a column pattern over `0 1 -` where `-` covers both values of an input.
  * Used by the compact text form and by KISS2 (character k is inputs[k], as in column keys).
  */
+import { countColumns, NONE, type FlowTable } from '../model';
 
 /** A cube as bit masks: `free` bit k set means input k is `-`; `bits` holds the fixed values. */
 export interface Cube {
@@ -99,4 +100,44 @@ export function coverColumns(member: Uint8Array, inputCount: number): Cube[] {
     .map((cube) => ({ cube, size: cubeSize(cube), text: cubeToText(cube, inputCount) }))
     .sort((a, b) => b.size - a.size || (a.text < b.text ? -1 : a.text > b.text ? 1 : 0))
     .map((x) => x.cube);
+}
+
+/** One cube of a row's exact cover, with a cell it covers (all its cells are identical). */
+export interface RowCube {
+  cube: Cube;
+  text: string;
+  free: number;
+  cell: number;
+}
+
+/**
+ * Exact cube cover of one row: its specified columns grouped by identical cell, each group
+ * covered by `coverColumns`, largest cubes first, then by cube text, so printing is canonical.
+ */
+export function coverRow(t: FlowTable, state: number): RowCube[] {
+  const n = t.inputs.length;
+  const cols = countColumns(n);
+  const groups = new Map<string, number[]>();
+  for (let c = 0; c < cols; c++) {
+    const at = state * cols + c;
+    if (t.next[at] === NONE) continue;
+    const key = `${t.next[at]},${t.outCare[at]},${t.outValue[at]}`;
+    let g = groups.get(key);
+    if (!g) groups.set(key, (g = []));
+    g.push(c);
+  }
+  const member = new Uint8Array(cols);
+  const out: RowCube[] = [];
+  for (const g of groups.values()) {
+    member.fill(0);
+    for (const c of g) member[c] = 1;
+    const cell = state * cols + g[0]!;
+    for (const cube of coverColumns(member, n)) {
+      let free = 0;
+      for (let f = cube.free; f; f &= f - 1) free++;
+      out.push({ cube, text: cubeToText(cube, n), free, cell });
+    }
+  }
+  // cubes of one row never repeat (the groups are disjoint), so size and text order them fully
+  return out.sort((a, b) => b.free - a.free || (a.text < b.text ? -1 : a.text > b.text ? 1 : 0));
 }

@@ -4,7 +4,7 @@
  * `.start_kiss`/`.end_kiss` wrapper, and transition lines `INPUTS CURRENT NEXT OUTPUTS`.
  */
 import { cellBits, countColumns, createTable, FlowTableError, LIMITS, nameSchema, NONE, type FlowTable } from '../model';
-import { coverColumns, cubeToText, forEachCubeColumn, textToCube, type Cube } from './cubes';
+import { coverRow, forEachCubeColumn, textToCube, type Cube } from './cubes';
 import { checkName, pluralize } from './names';
 import { checkSourceText, collectIssues, splitLines, stripBom, type IssueList } from './source';
 
@@ -297,34 +297,10 @@ export function tableToKiss2(t: FlowTable): string {
   const bad = t.states.findIndex((s) => !isKissWord(s) || (n === 0 && s.startsWith('.')));
   if (bad >= 0)
     throw new FlowTableError([{ where: `states[${bad}]`, message: `state name ${JSON.stringify(t.states[bad])} cannot be written in KISS2`, hint: 'KISS2 state names are single words without whitespace or "#", and not "*"; rename the state' }]);
-  const cols = countColumns(n);
   const body: string[] = [];
-  const member = new Uint8Array(cols);
   const field = (cube: string, cur: string, next: string, bits: string) => [...(n ? [cube] : []), cur, next, ...(m ? [bits] : [])].join(' ');
   t.states.forEach((cur, s) => {
-    const groups = new Map<string, number[]>();
-    for (let c = 0; c < cols; c++) {
-      const at = s * cols + c;
-      if (t.next[at] === NONE) continue;
-      const key = `${t.next[at]},${t.outCare[at]},${t.outValue[at]}`;
-      let g = groups.get(key);
-      if (!g) groups.set(key, (g = []));
-      g.push(c);
-    }
-    const lines: { size: number; cube: string; text: string }[] = [];
-    for (const g of groups.values()) {
-      member.fill(0);
-      for (const c of g) member[c] = 1;
-      const at = s * cols + g[0]!;
-      const nx = t.next[at]!;
-      for (const cube of coverColumns(member, n)) {
-        let free = 0;
-        for (let f = cube.free; f; f &= f - 1) free++;
-        const ct = cubeToText(cube, n);
-        lines.push({ size: free, cube: ct, text: field(ct, cur, t.states[nx]!, cellBits(t, at)) });
-      }
-    }
-    lines.sort((a, b) => b.size - a.size || (a.cube < b.cube ? -1 : a.cube > b.cube ? 1 : 0));
+    const lines = coverRow(t, s).map((r) => ({ text: field(r.text, cur, t.states[t.next[r.cell]!]!, cellBits(t, r.cell)) }));
     // a state without cells of its own keeps its place in the row order with a `*` line
     if (lines.length === 0) body.push(field('-'.repeat(n), cur, '*', '-'.repeat(m)));
     body.push(...lines.map((l) => l.text));

@@ -19,7 +19,7 @@ import {
   type FlowTable,
   type Scenario,
 } from '../model';
-import { coverColumns, cubeToText, forEachCubeColumn, textToCube } from './cubes';
+import { coverRow, forEachCubeColumn, textToCube } from './cubes';
 import { BARE_NAME, checkName, formatName, isKeyword, pluralize, quoteString, TEXT_KEYWORDS } from './names';
 import { checkSourceText, collectIssues, splitLines, stripBom, type IssueList } from './source';
 
@@ -709,30 +709,8 @@ export function tableToText(t: FlowTable): string {
     });
   } else {
     out.push('cells');
-    const member = new Uint8Array(cols);
     t.states.forEach((_, s) => {
-      // group the row's columns by identical cell, in order of first appearance
-      const groups = new Map<string, number[]>();
-      for (let c = 0; c < cols; c++) {
-        const at = s * cols + c;
-        if (t.next[at] === NONE) continue;
-        const key = `${t.next[at]},${t.outCare[at]},${t.outValue[at]}`;
-        let g = groups.get(key);
-        if (!g) groups.set(key, (g = []));
-        g.push(c);
-      }
-      const lines: { size: number; cube: string; text: string }[] = [];
-      for (const g of groups.values()) {
-        member.fill(0);
-        for (const c of g) member[c] = 1;
-        const text = printCell(t, s * cols + g[0]!);
-        for (const cube of coverColumns(member, n)) {
-          let free = 0;
-          for (let f = cube.free; f; f &= f - 1) free++;
-          lines.push({ size: free, cube: cubeToText(cube, n), text });
-        }
-      }
-      lines.sort((a, b) => b.size - a.size || compareStrings(a.cube, b.cube) || compareStrings(a.text, b.text));
+      const lines = coverRow(t, s).map((r) => ({ cube: r.text, text: printCell(t, r.cell) }));
       for (const l of lines) out.push(`  ${printedStates[s]!.padEnd(labelW)}  ${l.cube}  ${l.text}`);
     });
   }
