@@ -3,7 +3,7 @@
  * highlighting), the footprint estimate, the findings that change what the code does, and the
  * zip download with the safety caution beside the button.
  */
-import { useEffect, useMemo, useState } from 'react';
+import { useEffect, useState } from 'react';
 import Editor from '@monaco-editor/react';
 import { pickMonacoTheme, setupMonaco } from '../../lib/client/monaco-setup';
 import { useDownloadBundle, useGeneratePreview } from '../../lib/client/queries';
@@ -56,14 +56,6 @@ function languageOf(path: string): string {
   return 'plaintext';
 }
 
-/** Estimated flash use of the tables: states × columns × (state bytes + output bytes). */
-export function estimateTableBytes(t: FlowTable): { tableBytes: number; stateBytes: number; outputBytes: number } {
-  const cols = 1 << t.inputs.length;
-  const stateBytes = t.states.length <= 256 ? 1 : 2;
-  const outputBytes = t.outputs.length === 0 ? 0 : t.outputs.length <= 8 ? 1 : t.outputs.length <= 16 ? 2 : 4;
-  return { tableBytes: t.states.length * cols * (stateBytes + outputBytes), stateBytes, outputBytes };
-}
-
 /** The build panel. */
 export default function GeneratePanel({ workspace, controller, table, source, findings, revisionLabel, valid }: GeneratePanelProps) {
   const [target, setTarget] = useState<'c' | 'rust'>('c');
@@ -77,7 +69,7 @@ export default function GeneratePanel({ workspace, controller, table, source, fi
     if (files.length && (!file || !files.some((f) => f.path === file))) setFile(files.find((f) => /\.(c|rs)$/.test(f.path) && !/test/.test(f.path))?.path ?? files[0]!.path);
   }, [files, file]);
   const current = files.find((f) => f.path === file) ?? null;
-  const est = useMemo(() => estimateTableBytes(table), [table]);
+  const est = preview.data?.footprint;
   const affecting = findings.filter((f) => CODE_AFFECTING.has(f.code));
 
   const download = () => {
@@ -113,16 +105,16 @@ export default function GeneratePanel({ workspace, controller, table, source, fi
         <div className="q-card p-3">
           <div className="text-xs text-ink-muted">Table bytes (flash)</div>
           <div className="text-lg font-semibold font-mono" data-testid="table-bytes">
-            {est.tableBytes.toLocaleString('en')}
+            {est ? est.tableBytes.toLocaleString('en') : '…'}
           </div>
           <div className="text-xs text-ink-muted">
-            {table.states.length} states × {1 << table.inputs.length} columns × ({est.stateBytes} + {est.outputBytes}) bytes
+            {table.states.length} states × {1 << table.inputs.length} columns × ({est ? `${est.stateBytes} + ${est.outputEntryBytes}` : '…'}) bytes
           </div>
         </div>
         <div className="q-card p-3">
           <div className="text-xs text-ink-muted">Handler code (estimate)</div>
-          <div className="text-lg font-semibold font-mono">≈ 300 B</div>
-          <div className="text-xs text-ink-muted">Cortex-M0+, -Os: a table lookup, no loops over the table</div>
+          <div className="text-lg font-semibold font-mono" data-testid="code-bytes">{est ? `≈ ${est.codeBytes} B` : '…'}</div>
+          <div className="text-xs text-ink-muted">{est?.codeBasis ?? 'Cortex-M0+ at -Os'}; constant time, no loops over the table</div>
         </div>
         <div className="q-card p-3">
           <div className="text-xs text-ink-muted">Bundle</div>

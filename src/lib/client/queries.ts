@@ -89,7 +89,7 @@ export function useGeneratePreview(workspace: string, controller: string, source
     enabled,
     staleTime: Infinity,
     queryFn: ({ signal }) =>
-      apiJson<{ files: GeneratedFile[]; sha256: string; zipBytes: number; footprint: { tableBytes: number; codeEstimate: number; stateBits: number; outputBits: number } }>(`${controllerPath(workspace, controller)}/generate`, {
+      apiJson<{ files: GeneratedFile[]; sha256: string; zipBytes: number; footprint: { cells: number; stateBytes: number; outputEntryBytes: number; tableBytes: number; codeBytes: number; codeBasis: string } }>(`${controllerPath(workspace, controller)}/generate`, {
         body: { source, target, revision },
         signal,
       }),

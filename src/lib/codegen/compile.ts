@@ -78,6 +78,18 @@ export function bitsForMask(bitCount: number): UIntBits {
   return bitCount <= 8 ? 8 : bitCount <= 16 ? 16 : 32;
 }
 
+/** Integer widths and output layout the generated code uses for a table of this shape. */
+export function chooseEncoding(stateCount: number, inputCount: number, outputCount: number): Pick<CompiledMachine, 'stateBits' | 'inputBits' | 'outputBits' | 'outCodeBits' | 'outputLayout'> {
+  return {
+    // two codes past the last state mark unspecified and oscillating cells
+    stateBits: bitsFor(stateCount + 1),
+    inputBits: bitsForMask(inputCount),
+    outputBits: bitsForMask(outputCount),
+    outCodeBits: bitsForMask(2 * outputCount),
+    outputLayout: outputCount === 0 ? 'none' : 2 * outputCount <= 32 ? 'packed' : 'split',
+  };
+}
+
 /** Compiles a table: encodings, settled tables, identifiers and test vectors. */
 export function compileMachine(t: FlowTable, options: CompileOptions = {}): CompiledMachine {
   const n = t.inputs.length;
@@ -95,7 +107,8 @@ export function compileMachine(t: FlowTable, options: CompileOptions = {}): Comp
     const f = fault[i]!;
     next[i] = f === SETTLE_OK ? (term[i]! / cols) | 0 : f === SETTLE_OSCILLATION ? codes.oscillation : codes.unspecified;
   }
-  const layout: OutputLayout = m === 0 ? 'none' : 2 * m <= 32 ? 'packed' : 'split';
+  const encoding = chooseEncoding(sCount, n, m);
+  const layout = encoding.outputLayout;
   const outCode: number[] = [];
   const outKeep: number[] = [];
   const outValue: number[] = [];
@@ -127,11 +140,7 @@ export function compileMachine(t: FlowTable, options: CompileOptions = {}): Comp
     states: [...t.states],
     inputs: [...t.inputs],
     outputs: [...t.outputs],
-    stateBits: bitsFor(codes.oscillation),
-    inputBits: bitsForMask(n),
-    outputBits: bitsForMask(m),
-    outCodeBits: bitsForMask(2 * m),
-    outputLayout: layout,
+    ...encoding,
     faultCodes: codes,
     next,
     outCode,

@@ -1,4 +1,5 @@
 /** What both targets' contexts share: header lines, the safety caution, policy wording, name lists. */
+import { encodedTableBytes } from '../footprint';
 import type { DoubleChangePolicy } from '../../engine/model';
 import type { CompiledMachine } from '../compile';
 import type { CodegenOptions } from '../options';
@@ -91,9 +92,7 @@ export function lowMask(count: number): number {
 
 /** Bytes of the const tables (next state plus outputs), as the README states them. */
 export function tableBytes(m: CompiledMachine): number {
-  const cells = m.stateCount * m.columnCount;
-  const out = m.outputLayout === 'packed' ? m.outCodeBits / 8 : m.outputLayout === 'split' ? 8 : 0;
-  return cells * (m.stateBits / 8 + out);
+  return encodedTableBytes(m, m.stateCount * m.columnCount);
 }
 
 /** Context fields both targets use. */

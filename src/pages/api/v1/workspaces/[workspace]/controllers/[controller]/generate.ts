@@ -5,8 +5,7 @@
  */
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
-import { codegenTargetSchema, generateBundle } from '../../../../../../../lib/codegen';
-import { countColumns } from '../../../../../../../lib/engine/model';
+import { codegenTargetSchema, estimateFootprint, generateBundle } from '../../../../../../../lib/codegen';
 import { guardController, handle } from '../../../../../../../lib/server/controller-api';
 import { json, readJson } from '../../../../../../../lib/server/http';
 import { MAX_UPLOAD_BYTES, parseOrFail } from '../../../../../../../lib/server/revisions';
@@ -36,14 +35,10 @@ export const POST: APIRoute = (ctx) =>
         },
       });
     }
-    const cols = countColumns(table.inputs.length);
-    const stateBytes = table.states.length <= 256 ? 1 : 2;
-    const m = table.outputs.length;
-    const outputBytes = m === 0 ? 0 : m <= 8 ? 1 : m <= 16 ? 2 : 4;
     return json({
       files: bundle.files.map((f) => ({ path: f.path, text: f.content, size: new TextEncoder().encode(f.content).length })),
       sha256: bundle.sha256,
       zipBytes: bundle.zip.length,
-      footprint: { tableBytes: table.states.length * cols * (stateBytes + outputBytes), codeEstimate: 300, stateBits: stateBytes * 8, outputBits: outputBytes * 8 },
+      footprint: estimateFootprint(table),
     });
   });
