@@ -127,6 +127,14 @@ export default function FlowGrid(props: FlowGridProps) {
   }, [sel.state, sel.column]);
 
   const focusGrid = useCallback(() => gridRef.current?.focus({ preventScroll: true }), []);
+  // closing a name menu hands focus back to the grid, so keyboard work goes on where it was
+  const openOrCloseMenu = useCallback(
+    (m: { kind: 'state' | 'input' | 'output'; index: number } | null) => {
+      setMenu(m);
+      if (!m) requestAnimationFrame(() => focusGrid());
+    },
+    [focusGrid],
+  );
 
   const move = (dState: number, dCol: number) => {
     const s = Math.max(0, Math.min(t.states.length - 1, sel.state + dState));
@@ -227,7 +235,7 @@ export default function FlowGrid(props: FlowGridProps) {
 
   return (
     <div className="flex flex-col gap-2 min-h-0" data-testid="flow-grid">
-      <StructureBar table={t} readOnly={readOnly} onEdit={onEdit} menu={menu} setMenu={setMenu} />
+      <StructureBar table={t} readOnly={readOnly} onEdit={onEdit} menu={menu} setMenu={openOrCloseMenu} />
       {editError && (
         <p role="alert" className="q-alert q-alert-fault text-sm">
           <strong>Not applied:</strong> <span>{editError}</span>
