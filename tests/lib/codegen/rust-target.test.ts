@@ -7,9 +7,9 @@
  * replay example are held line by line against the engine's simulation. One demo crate is also
  * checked standalone, with exactly the commands of the issue.
  */
-import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { chmodSync, copyFileSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DOUBLE_CHANGE_POLICIES, cloneTable, type DoubleChangePolicy, type FlowTable } from '../../../src/lib/engine/model';
 import { generateBundle } from '../../../src/lib/codegen/bundle';
@@ -19,6 +19,8 @@ const work = mkdtempSync(join(tmpdir(), 'quiesce-codegen-rust-'));
 // a fresh target folder shared by every crate of the run (stale example builds would confuse the replay lookup)
 const target = join(work, 'target');
 const cargoEnv = { ...process.env, CARGO_TARGET_DIR: target, CARGO_TERM_COLOR: 'never' };
+// the standalone crate builds apart, so nothing it links can stand in for a workspace crate's binary
+const standaloneEnv = { ...cargoEnv, CARGO_TARGET_DIR: join(work, 'standalone-target') };
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 
 function withPolicy(t: FlowTable, policy: DoubleChangePolicy): FlowTable {
@@ -70,16 +72,17 @@ beforeAll(async () => {
     if (msg.reason === 'compiler-artifact' && msg.executable && msg.profile?.test && msg.target?.kind?.includes('lib'))
       testBinaries.set(msg.manifest_path!.replace(/\/Cargo\.toml$/, ''), msg.executable);
   }
-  // every crate's example is called `replay`, so their uplifted copies collide; the hashed ones
-  // do not, and each one's dep-info file names the crate it was built from
-  const examples = join(target, 'debug', 'examples');
-  for (const f of readdirSync(examples)) {
-    const m = /^(replay-[0-9a-f]+)\.d$/.exec(f);
-    if (!m) continue;
-    const deps = readFileSync(join(examples, f), 'utf8');
-    // paths are relative to the workspace root (`c3/examples/replay.rs`) or absolute
-    const src = /\s(\S+)\/examples\/replay\.rs/.exec(deps);
-    if (src) replayBinaries.set(resolve(ws, src[1]!), join(examples, m[1]!));
+  // every crate's example is called `replay`, so the uplifted `examples/replay` is whichever was
+  // linked last; re-linking one crate at a time (a no-op build) and copying it out is unambiguous
+  const bin = join(work, 'bin');
+  mkdirSync(bin, { recursive: true });
+  for (const [i, c] of crates.entries()) {
+    const one = await run('cargo', ['build', '--offline', '--quiet', '--example', 'replay', '-p', c.name], { cwd: ws, env: cargoEnv });
+    if (one.code !== 0) continue;
+    const copy = join(bin, `replay-${i}`);
+    copyFileSync(join(target, 'debug', 'examples', 'replay'), copy);
+    chmodSync(copy, 0o755);
+    replayBinaries.set(c.dir, copy);
   }
   clippy = await run('cargo', ['clippy', '--offline', '--workspace', '--all-targets', '--', '-D', 'warnings'], { cwd: ws, env: cargoEnv });
   fmt = await run('cargo', ['fmt', '--all', '--check'], { cwd: ws, env: cargoEnv });
@@ -124,15 +127,15 @@ describe('Rust crates', () => {
     const bundle = await generateBundle(table, { target: 'rust', revision: 'r4' });
     const dir = join(work, 'standalone');
     writeFiles(dir, bundle.files);
-    const test = await run('cargo', ['test', '--offline'], { cwd: dir, env: cargoEnv });
+    const test = await run('cargo', ['test', '--offline'], { cwd: dir, env: standaloneEnv });
     expect(test.code, test.stderr.slice(-3000)).toBe(0);
     expect(test.stdout).toMatch(/test result: ok\. [1-9]\d* passed; 0 failed/);
-    const lint = await run('cargo', ['clippy', '--offline', '--all-targets', '--', '-D', 'warnings'], { cwd: dir, env: cargoEnv });
+    const lint = await run('cargo', ['clippy', '--offline', '--all-targets', '--', '-D', 'warnings'], { cwd: dir, env: standaloneEnv });
     expect(lint.code, lint.stderr.slice(-3000)).toBe(0);
-    const format = await run('cargo', ['fmt', '--check'], { cwd: dir, env: cargoEnv });
+    const format = await run('cargo', ['fmt', '--check'], { cwd: dir, env: standaloneEnv });
     expect(format.code, format.stdout).toBe(0);
     const walk = randomWalk(table, 7, 60);
-    const replay = await run('cargo', ['run', '--offline', '--quiet', '--example', 'replay'], { cwd: dir, env: cargoEnv, input: `${walk.join('\n')}\n` });
+    const replay = await run('cargo', ['run', '--offline', '--quiet', '--example', 'replay'], { cwd: dir, env: standaloneEnv, input: `${walk.join('\n')}\n` });
     expect(replay.code, replay.stderr).toBe(0);
     expect(replay.stdout.trimEnd().split('\n')).toEqual(engineReplayLines(table, walk));
   });
