@@ -4,22 +4,10 @@ import { cloneTable, interchangeToTable, NONE, tableToInterchange, type Intercha
 import { analyzeTable } from '../../../src/lib/engine/analyze';
 import { diffFindings, diffTables } from '../../../src/lib/engine/diff';
 import { arbitraryAnalysisTable } from '../../support/analysis-tables';
+import { doorInterlockDocument } from '../../support/worked-examples';
 
 // Invented example: a door interlock, edited in small steps.
-const base: Interchange = {
-  format: 'quiesce-flow-table',
-  version: 1,
-  name: 'door_interlock',
-  inputs: ['door_closed', 'key'],
-  outputs: ['unlock'],
-  states: ['idle', 'armed', 'open'],
-  reset: 'idle',
-  rows: {
-    idle: { '00': 'idle/0', '01': 'armed/0', '11': '-', '10': 'idle/0' },
-    armed: { '00': 'idle/0', '01': 'armed/0', '11': 'open/-', '10': '-' },
-    open: { '00': '-', '01': 'armed/0', '11': 'open/1', '10': 'idle/0' },
-  },
-};
+const base: Interchange = doorInterlockDocument();
 const edit = (f: (d: Interchange) => void) => {
   const d = structuredClone(base);
   f(d);

@@ -8,21 +8,9 @@ import {
   tableToInterchange,
   tablesEqual,
 } from '../../../src/lib/engine/model';
+import { doorInterlockDocument } from '../../support/worked-examples';
 
-const door = {
-  format: 'quiesce-flow-table',
-  version: 1,
-  name: 'door_interlock',
-  inputs: ['door_closed', 'key'],
-  outputs: ['unlock'],
-  states: ['idle', 'armed', 'open'],
-  reset: 'idle',
-  rows: {
-    idle: { '00': 'idle/0', '01': 'armed/0', '11': '-', '10': 'idle/0' },
-    armed: { '00': 'idle/0', '01': 'armed/0', '11': 'open/-', '10': '-' },
-    open: { '00': '-', '01': 'armed/0', '11': 'open/1', '10': 'idle/0' },
-  },
-};
+const door = doorInterlockDocument();
 
 function issuesOf(value: unknown): string[] {
   try {

@@ -6,27 +6,12 @@
  * maximal compatibles {a, b}, {a, c, d}, {b, e, f}.
  */
 import { describe, expect, it } from 'vitest';
-import { interchangeToTable, tableToInterchange } from '../../../../src/lib/engine/model';
+import { tableToInterchange } from '../../../../src/lib/engine/model';
 import { buildImplicationChart, findMaximalCompatibles, minimizeTable, verifyReduction } from '../../../../src/lib/engine/minimize/index';
+import { gatedLatchTable } from '../../../support/worked-examples';
 
 /** The README's table, inputs D G, output Q, outputs only in stable cells. */
-const LATCH = interchangeToTable({
-  format: 'quiesce-flow-table',
-  version: 1,
-  name: 'gated_latch',
-  inputs: ['D', 'G'],
-  outputs: ['Q'],
-  states: ['a', 'b', 'c', 'd', 'e', 'f'],
-  reset: 'a',
-  rows: {
-    a: { '00': 'c/-', '01': 'a/0', '11': 'b/-' },
-    b: { '01': 'a/-', '11': 'b/1', '10': 'e/-' },
-    c: { '00': 'c/0', '01': 'a/-', '10': 'd/-' },
-    d: { '00': 'c/-', '11': 'b/-', '10': 'd/0' },
-    e: { '00': 'f/-', '11': 'b/-', '10': 'e/1' },
-    f: { '00': 'f/1', '01': 'a/-', '10': 'e/-' },
-  },
-});
+const LATCH = gatedLatchTable();
 
 const names = (sets: number[][]) => sets.map((s) => s.map((i) => LATCH.states[i]).join(''));
 

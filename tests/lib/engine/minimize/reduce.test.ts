@@ -1,31 +1,16 @@
 /** The reduced table: names, verification, and property tests of the whole reduction. */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { cloneTable, countColumns, interchangeToTable, nameSchema, NONE, parseInterchange, tableToInterchange, type FlowTable } from '../../../../src/lib/engine/model';
+import { cloneTable, countColumns, nameSchema, NONE, parseInterchange, tableToInterchange, type FlowTable } from '../../../../src/lib/engine/model';
 import { createRuntime, powerUp, stepMachine, type EventOutcome, type Runtime } from '../../../../src/lib/engine/runtime';
 import { settle } from '../../../../src/lib/engine/settle';
 import { minimizeTable, nameClasses, verifyReduction, type MinimizeResult } from '../../../../src/lib/engine/minimize/index';
 import { arbitraryTable } from '../../../support/arbitrary-table';
 import { isClosedCover, naiveCompatibility } from '../../../support/minimize-oracle';
+import { gatedLatchTable } from '../../../support/worked-examples';
 
 // Gated (D) latch: check-data/README.md worked example (Mano and Ciletti, textbook, encoded from memory)
-const LATCH = interchangeToTable({
-  format: 'quiesce-flow-table',
-  version: 1,
-  name: 'gated_latch',
-  inputs: ['D', 'G'],
-  outputs: ['Q'],
-  states: ['a', 'b', 'c', 'd', 'e', 'f'],
-  reset: 'a',
-  rows: {
-    a: { '00': 'c/-', '01': 'a/0', '11': 'b/-' },
-    b: { '01': 'a/-', '11': 'b/1', '10': 'e/-' },
-    c: { '00': 'c/0', '01': 'a/-', '10': 'd/-' },
-    d: { '00': 'c/-', '11': 'b/-', '10': 'd/0' },
-    e: { '00': 'f/-', '11': 'b/-', '10': 'e/1' },
-    f: { '00': 'f/1', '01': 'a/-', '10': 'e/-' },
-  },
-});
+const LATCH = gatedLatchTable();
 
 describe('nameClasses', () => {
   it('keeps single names, joins members with "+", and stays within 64 characters and unique', () => {
