@@ -4,7 +4,9 @@ import node from '@astrojs/node';
 import react from '@astrojs/react';
 import tailwindcss from '@tailwindcss/vite';
 import path from 'node:path';
+import { emitServerEntry } from './src/lib/build/server-entry.ts';
 import { stripMonacoCdn } from './src/lib/build/strip-cdn.ts';
+import { fileURLToPath } from 'node:url';
 
 /**
  * Host patterns Astro trusts for the Host / X-Forwarded-Host headers.
@@ -46,7 +48,7 @@ export default defineConfig({
   },
   devToolbar: { enabled: false },
   vite: {
-    plugins: [tailwindcss(), stripMonacoCdn()],
+    plugins: [tailwindcss(), stripMonacoCdn(), emitServerEntry(path.dirname(fileURLToPath(import.meta.url)))],
     server: {
       watch: {
         ignored: [`${dataDir}/**`, '**/.data/**', '**/.data-*/**', '**/test-output/**', '**/dist/**', '**/dist-*/**', '**/target/**'],

@@ -1,21 +1,22 @@
 /**
- * Download benchmark: the built server on loopback, 100 concurrent clients for a bounded time
+ * Download benchmark: the built production server (dist/server/serve.mjs) on loopback, 100 concurrent clients for a bounded time
  * (autocannon), fetching a cached bundle with the demo CI key, next to the same server serving a
  * static file of the same size from its client directory. The ratio of the two throughputs is
  * the figure (target <= 2, and no errors). The first download of a new revision, which
- * generates and stores the bundle, is reported separately.
+ * generates and stores the bundle, is reported separately, and so is the cached download through
+ * the app alone (the adapter's entry.mjs, without the server's fast path).
  *
  * The server runs from a temporary copy of the build (with node_modules linked in), so the
  * static file is never written into the repository's build. Set QUIESCE_BENCH_SECONDS to
  * change the 10 s per measurement.
  */
-import { spawn } from 'node:child_process';
+import { spawn, type ChildProcess } from 'node:child_process';
 import fs from 'node:fs';
 import net from 'node:net';
 import os from 'node:os';
 import path from 'node:path';
 import autocannon from 'autocannon';
-import { ensureBuilt, outDirOf, ROOT } from '../scripts/build-if-needed.mjs';
+import { ensureBuilt, outDirOf, ROOT, serverEntryOf } from '../scripts/build-if-needed.mjs';
 import { openDatabase } from '../src/lib/server/db';
 import { DEMO_CI_KEY, DEMO_WORKSPACE } from '../src/lib/server/demo/accounts';
 import { seedDemo } from '../src/lib/server/demo/seed';
@@ -56,6 +57,38 @@ async function prepareData(dataDir: string): Promise<void> {
   }
 }
 
+/** Starts a server file of the build on a free loopback port and waits for /api/health. */
+async function startServer(file: string, dataDir: string): Promise<{ child: ChildProcess; origin: string; bundleUrl: string }> {
+  const port = await freePort();
+  const env: Record<string, string> = {};
+  for (const [k, v] of Object.entries({ ...process.env, HOST: '127.0.0.1', PORT: String(port), QUIESCE_DATA_DIR: dataDir, QUIESCE_DEMO: '1', ASTRO_TELEMETRY_DISABLED: '1' })) {
+    if (v !== undefined && k !== 'DATABASE_URL' && k !== 'SMTP_URL') env[k] = v;
+  }
+  const child = spawn(process.execPath, [file], { cwd: ROOT, env, stdio: ['ignore', 'ignore', 'pipe'] });
+  let stderr = '';
+  child.stderr?.on('data', (d: Buffer) => (stderr += d.toString()));
+  const origin = `http://127.0.0.1:${port}`;
+  const deadline = Date.now() + 60_000;
+  for (;;) {
+    if (child.exitCode !== null) throw new Error(`server exited: ${stderr}`);
+    if (Date.now() > deadline) throw new Error(`server not ready: ${stderr}`);
+    const ok = await fetch(`${origin}/api/health`).then((r) => r.ok).catch(() => false);
+    if (ok) break;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  return { child, origin, bundleUrl: `${origin}/api/v1/workspaces/${DEMO_WORKSPACE.slug}/controllers/${CONTROLLER}/revisions/1/bundle?target=c` };
+}
+
+/** Stops a server (SIGTERM, then SIGKILL) and waits until it has exited. */
+async function stopServer(child: ChildProcess): Promise<void> {
+  if (child.exitCode !== null || child.signalCode !== null) return;
+  const exited = new Promise((r) => child.once('exit', r));
+  child.kill('SIGTERM');
+  const timer = setTimeout(() => child.kill('SIGKILL'), 5000);
+  await exited;
+  clearTimeout(timer);
+}
+
 async function measure(url: string, headers: Record<string, string>): Promise<{ rps: number; p99: number; p50: number; errors: number; non2xx: number; total: number }> {
   const result = await autocannon({ url, connections: CONNECTIONS, duration: SECONDS, headers });
   return {
@@ -86,7 +119,7 @@ export async function run(): Promise<BenchRow[]> {
   const outDir = outDirOf();
   await ensureBuilt({ outDir, log: (m: string) => process.stderr.write(`${m}\n`) });
   const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'quiesce-bench-download-'));
-  let child: ReturnType<typeof spawn> | null = null;
+  let child: ChildProcess | null = null;
   try {
     fs.cpSync(path.join(outDir, 'server'), path.join(tmp, 'build', 'server'), { recursive: true });
     fs.cpSync(path.join(outDir, 'client'), path.join(tmp, 'build', 'client'), { recursive: true });
@@ -94,23 +127,9 @@ export async function run(): Promise<BenchRow[]> {
     const dataDir = path.join(tmp, 'data');
     await prepareData(dataDir);
 
-    const port = await freePort();
-    const env: Record<string, string> = {};
-    for (const [k, v] of Object.entries({ ...process.env, HOST: '127.0.0.1', PORT: String(port), QUIESCE_DATA_DIR: dataDir, QUIESCE_DEMO: '1', ASTRO_TELEMETRY_DISABLED: '1' })) {
-      if (v !== undefined && k !== 'DATABASE_URL' && k !== 'SMTP_URL') env[k] = v;
-    }
-    child = spawn(process.execPath, [path.join(tmp, 'build', 'server', 'entry.mjs')], { cwd: ROOT, env, stdio: ['ignore', 'ignore', 'pipe'] });
-    let stderr = '';
-    child.stderr?.on('data', (d: Buffer) => (stderr += d.toString()));
-    const origin = `http://127.0.0.1:${port}`;
-    const deadline = Date.now() + 60_000;
-    for (;;) {
-      if (child.exitCode !== null) throw new Error(`server exited: ${stderr}`);
-      if (Date.now() > deadline) throw new Error(`server not ready: ${stderr}`);
-      const ok = await fetch(`${origin}/api/health`).then((r) => r.ok).catch(() => false);
-      if (ok) break;
-      await new Promise((r) => setTimeout(r, 200));
-    }
+    let server = await startServer(serverEntryOf(path.join(tmp, 'build')), dataDir);
+    child = server.child;
+    const origin = server.origin;
     const auth = { Authorization: `Bearer ${DEMO_CI_KEY.value}` };
     const bundleUrl = (rev: string | number) => `${origin}/api/v1/workspaces/${DEMO_WORKSPACE.slug}/controllers/${CONTROLLER}/revisions/${rev}/bundle?target=c`;
 
@@ -150,6 +169,13 @@ export async function run(): Promise<BenchRow[]> {
     // Reference: the cheapest server-rendered answer (the health endpoint, through the same
     // middleware), to tell the framework's per-request cost from the download code's.
     const floor = await measure(`${origin}/api/health`, {});
+    // Reference: the same download answered by the app alone (the adapter's own server, without
+    // the fast path of lib/server/serve.ts), to show what the fast path buys.
+    await stopServer(child);
+    server = await startServer(path.join(tmp, 'build', 'server', 'entry.mjs'), dataDir);
+    child = server.child;
+    await (await fetch(server.bundleUrl, { headers: auth })).arrayBuffer();
+    const appOnly = await measure(server.bundleUrl, auth);
     const ratio = stat.rps / Math.max(bundle.rps, 1e-9);
     const failures = bundle.errors + bundle.non2xx;
     const kib = (bytes.byteLength / 1024).toFixed(1);
@@ -158,17 +184,14 @@ export async function run(): Promise<BenchRow[]> {
       { group: 'download', case: `static file of the same size, ${CONNECTIONS} clients, ${ROUNDS} × ${SECONDS} s`, value: `${stat.rps.toFixed(0)} req/s, p50 ${stat.p50} ms, p99 ${stat.p99} ms (${stat.total} requests)` },
       { group: 'download', case: 'throughput ratio static / bundle', value: ratio.toFixed(2), target: '<= 2', ok: ratio <= 2 },
       { group: 'download', case: 'reference: health endpoint (no work), same clients', value: `${floor.rps.toFixed(0)} req/s, p99 ${floor.p99} ms; ratio static / health ${(stat.rps / Math.max(floor.rps, 1e-9)).toFixed(2)}` },
+      { group: 'download', case: 'reference: the same cached bundle through the app alone (no fast path)', value: `${appOnly.rps.toFixed(0)} req/s, p99 ${appOnly.p99} ms; ratio static / app ${(stat.rps / Math.max(appOnly.rps, 1e-9)).toFixed(2)}` },
       { group: 'download', case: 'p99 latency ratio bundle / static', value: (bundle.p99 / Math.max(stat.p99, 1)).toFixed(2) },
       { group: 'download', case: 'errors and non-2xx answers (bundle)', value: String(failures), target: '0', ok: failures === 0 },
       { group: 'download', case: `first download of a new revision (generates the C bundle), median of ${firstMs.length}`, value: `${median(firstMs).toFixed(1)} ms (max ${Math.max(...firstMs).toFixed(1)} ms)` },
       { group: 'download', case: 'the same revision downloaded again (stored bytes), median of 5', value: `${median(againMs).toFixed(1)} ms` },
     ];
   } finally {
-    if (child && child.exitCode === null) {
-      child.kill('SIGTERM');
-      await new Promise((r) => setTimeout(r, 1500));
-      if (child.exitCode === null) child.kill('SIGKILL');
-    }
+    if (child) await stopServer(child);
     fs.rmSync(tmp, { recursive: true, force: true });
   }
 }

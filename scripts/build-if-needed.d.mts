@@ -6,3 +6,5 @@ export function outDirOf(outDir?: string): string;
 export function whyBuild(outDir?: string): string | null;
 /** Builds into outDir unless the build there is current; returns true when it built. */
 export function ensureBuilt(options?: { outDir?: string; log?: (message: string) => void }): Promise<boolean>;
+/** The production server of a build (dist/server/serve.mjs). */
+export function serverEntryOf(outDir?: string): string;

@@ -35,9 +35,14 @@ export function outDirOf(outDir = process.env.QUIESCE_OUT_DIR ?? 'dist') {
   return path.resolve(ROOT, outDir);
 }
 
+/** The production server of a build (src/lib/server/serve.ts, emitted by the build). */
+export function serverEntryOf(outDir = outDirOf()) {
+  return path.join(outDir, 'server', 'serve.mjs');
+}
+
 /** Why a build is needed, or null when the existing one is current. */
 export function whyBuild(outDir = outDirOf()) {
-  const entry = path.join(outDir, 'server', 'entry.mjs');
+  const entry = serverEntryOf(outDir);
   const stampPath = path.join(outDir, STAMP);
   if (!fs.existsSync(entry) || !fs.existsSync(stampPath)) return 'no build yet';
   let stamp;

@@ -3,7 +3,7 @@
 import { spawn } from 'node:child_process';
 import fs from 'node:fs';
 import path from 'node:path';
-import { ensureBuilt, outDirOf, ROOT } from './build-if-needed.mjs';
+import { ensureBuilt, outDirOf, ROOT, serverEntryOf } from './build-if-needed.mjs';
 
 const host = process.env.HOST ?? '127.0.0.1';
 const port = Number(process.env.PORT ?? 4321);
@@ -43,7 +43,7 @@ try {
   process.exit(1);
 }
 
-const child = spawn(process.execPath, [path.join(outDir, 'server', 'entry.mjs')], {
+const child = spawn(process.execPath, [serverEntryOf(outDir)], {
   cwd: ROOT,
   stdio: ['ignore', 'inherit', 'inherit'],
   env: { NODE_ENV: 'production', ...process.env, HOST: host, PORT: String(port), ASTRO_TELEMETRY_DISABLED: '1' },

@@ -9,6 +9,7 @@ import type { APIContext } from 'astro';
 import { readConfig } from './lib/server/config';
 import { getDb } from './lib/server/db';
 import { ApiError, jsonError, toApiError } from './lib/server/errors';
+import { SECURITY_HEADERS } from './lib/server/http';
 import { escapeHtml } from './lib/server/mail-templates';
 import { SESSION_COOKIE, validateSession } from './lib/server/session';
 
@@ -32,11 +33,7 @@ const CSP = [
 ].join('; ');
 
 function withSecurityHeaders(response: Response): Response {
-  const headers: Record<string, string> = {
-    'X-Content-Type-Options': 'nosniff',
-    'Referrer-Policy': 'same-origin',
-    'Cross-Origin-Opener-Policy': 'same-origin',
-  };
+  const headers: Record<string, string> = { ...SECURITY_HEADERS };
   const type = response.headers.get('content-type') ?? '';
   if (type.startsWith('text/html')) headers['Content-Security-Policy'] = CSP;
   try {

@@ -11,7 +11,7 @@ import { requireController } from './controllers';
 import type { Db } from './db';
 import { fail, jsonError, zodToApiError } from './errors';
 import { linkOrigin } from './http';
-import { requireControllerAccess, type ControllerAccess, type Credentials } from './downloads';
+import { requireControllerAccess, type ControllerAccess, type Credentials, type DownloadKind, type DownloadRequest } from './downloads';
 import { requireMemberAction, type Action, type MemberContext } from './permissions';
 import type { ControllerRow } from './schema';
 
@@ -34,6 +34,17 @@ export function dbOf(ctx: Pick<APIContext, 'locals'>): Db {
 /** The caller's credentials: a bearer token (if any) and the session user. */
 export function credentialsOf(ctx: Pick<APIContext, 'request' | 'locals'>): Credentials {
   return { bearer: readBearer(ctx.request), userId: ctx.locals.user?.id ?? null };
+}
+
+/** The download a bundle route was asked for (path segments as Astro decoded them). */
+export function downloadRequestOf(ctx: Pick<APIContext, 'request' | 'params' | 'url'>, what: DownloadKind, method: 'GET' | 'HEAD'): DownloadRequest {
+  return {
+    what,
+    method,
+    params: { workspace: String(ctx.params.workspace ?? ''), controller: String(ctx.params.controller ?? ''), rev: String(ctx.params.rev ?? '') },
+    search: ctx.url.search,
+    ifNoneMatch: ctx.request.headers.get('if-none-match'),
+  };
 }
 
 /** Guards a read of a controller: member or CI key of the workspace, else 404. */

@@ -175,6 +175,11 @@ export async function readBundleBytes(db: Db, bundle: Pick<BundleMeta, 'id' | 's
   return bytesCache.get(bundle.sha256) ?? row.bytes;
 }
 
+/** The bytes of a bundle when the in-process cache holds them (no database round trip), else undefined. */
+export function peekBundleBytes(sha256: string): Uint8Array | undefined {
+  return bytesCache.get(sha256);
+}
+
 /** Forgets cached bytes (tests use it to prove the database copy is served). */
 export function clearBundleBytesCache(): void {
   bytesCache.clear();

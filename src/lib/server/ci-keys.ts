@@ -176,7 +176,11 @@ export interface CiKeyPrincipal {
 
 /** Reads the bearer token of a request, or null when there is no Authorization: Bearer header. */
 export function readBearer(request: Request): string | null {
-  const header = request.headers.get('authorization');
+  return bearerOfHeader(request.headers.get('authorization'));
+}
+
+/** The token of an Authorization header value (null without one, '' when it is not a bearer token). */
+export function bearerOfHeader(header: string | null | undefined): string | null {
   if (!header) return null;
   const match = /^Bearer\s+(\S+)\s*$/i.exec(header);
   return match ? match[1]! : '';

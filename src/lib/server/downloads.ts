@@ -7,7 +7,7 @@
 import { and, asc, desc, eq, isNull, sql } from 'drizzle-orm';
 import { z } from 'zod';
 import { recordAudit } from './audit';
-import { bundleFilename, ensureBundle, readBundleBytes, CURRENT_GENERATOR_VERSION, type BundleMeta, type GeneratorChoice } from './bundles';
+import { bundleFilename, ensureBundle, peekBundleBytes, readBundleBytes, CURRENT_GENERATOR_VERSION, type BundleMeta, type GeneratorChoice } from './bundles';
 import { getCachedDownload, readDownloadEpoch, setCachedDownload } from './download-cache';
 import { ciKeyRowToPrincipal, ciKeyToHash, CI_KEY_PREFIX, keyCanRead, recordCiKeyUse, type CiKeyPrincipal } from './ci-keys';
 import type { Db } from './db';
@@ -57,18 +57,19 @@ export const bundleQuerySchema = z
 const parsedQueries = new Map<string, z.infer<typeof bundleQuerySchema>>();
 
 /**
- * Parses the bundle query with bundleQuerySchema (400 naming the parameter), remembering the
- * few distinct query strings CI sends so a busy URL is not re-validated on every request.
+ * Parses the bundle query string (`?target=c`, or '' for none) with bundleQuerySchema (400 naming
+ * the parameter), remembering the few distinct query strings CI sends so a busy URL is not
+ * re-validated on every request.
  */
-export function parseBundleQuery(url: URL): z.infer<typeof bundleQuerySchema> {
-  const known = parsedQueries.get(url.search);
+export function parseBundleQuery(search: string): z.infer<typeof bundleQuerySchema> {
+  const known = parsedQueries.get(search);
   if (known) return known;
   const values: Record<string, string> = {};
-  for (const [k, v] of url.searchParams) values[k] = v;
+  for (const [k, v] of new URLSearchParams(search)) values[k] = v;
   const parsed = bundleQuerySchema.safeParse(values);
   if (!parsed.success) throw zodToApiError(parsed.error);
   if (parsedQueries.size >= 64) parsedQueries.clear();
-  parsedQueries.set(url.search, parsed.data);
+  parsedQueries.set(search, parsed.data);
   return parsed.data;
 }
 
@@ -225,14 +226,17 @@ export interface ResolvedBundle {
   filename: string;
 }
 
+type BundleParams = { workspace: string; controller: string; rev: string; target: Target; generator: GeneratorChoice };
+
+/** The download-cache key of a CI key's request (the key enters only as its sha256). */
+function downloadCacheKey(bearer: string, params: BundleParams): string {
+  return [ciKeyToHash(bearer), params.workspace, params.controller, params.rev, params.target, params.generator].join('|');
+}
+
 /** Resolves reader, controller, revision and bundle (generating it on first use); 404 on any miss. */
-export async function resolveBundle(
-  db: Db,
-  credentials: Credentials,
-  params: { workspace: string; controller: string; rev: string; target: Target; generator: GeneratorChoice },
-): Promise<ResolvedBundle> {
+export async function resolveBundle(db: Db, credentials: Credentials, params: BundleParams): Promise<ResolvedBundle> {
   // CI keys hit the same URLs over and over: serve their resolutions from the epoch-checked cache.
-  const cacheKey = credentials.bearer !== null ? [ciKeyToHash(credentials.bearer), params.workspace, params.controller, params.rev, params.target, params.generator].join('|') : null;
+  const cacheKey = credentials.bearer !== null ? downloadCacheKey(credentials.bearer, params) : null;
   if (cacheKey) {
     const hit = getCachedDownload<ResolvedBundle>(cacheKey);
     if (hit) return hit;
@@ -296,25 +300,75 @@ export function bundleHeaders(r: ResolvedBundle): Record<string, string> {
   };
 }
 
-/** The zip answer (200), or 304 when If-None-Match names the bundle already held. */
-export async function bundleResponse(db: Db, r: ResolvedBundle, ifNoneMatch: string | null, method: 'GET' | 'HEAD' = 'GET'): Promise<Response> {
-  const headers = bundleHeaders(r);
-  if (etagMatches(ifNoneMatch, bundleEtag(r.bundle.sha256))) return new Response(null, { status: 304, headers });
-  const bytes = await readBundleBytes(db, r.bundle);
-  return new Response(method === 'HEAD' ? null : (bytes as unknown as BodyInit), {
-    status: 200,
-    headers: {
-      ...headers,
-      'Content-Type': 'application/zip',
-      'Content-Length': String(bytes.byteLength),
-      'Content-Disposition': `attachment; filename="${r.filename}"`,
-    },
-  });
+/** What a download asks for: the zip or its sha256sum line. */
+export type DownloadKind = 'bundle' | 'bundle.sha256';
+
+/** A download request as both the app's endpoints and the server's fast path see it. */
+export interface DownloadRequest {
+  what: DownloadKind;
+  method: 'GET' | 'HEAD';
+  /** The path segments, URL-decoded. */
+  params: { workspace: string; controller: string; rev: string };
+  /** The query string with its `?`, or ''. */
+  search: string;
+  ifNoneMatch: string | null;
 }
 
-/** The checksum answer: `<sha256>  <filename>` (the sha256sum format), so `sha256sum -c` can check the zip. */
-export function checksumResponse(r: ResolvedBundle, ifNoneMatch: string | null): Response {
-  const headers: Record<string, string> = { ...bundleHeaders(r), 'Content-Type': 'text/plain; charset=utf-8' };
-  if (etagMatches(ifNoneMatch, bundleEtag(r.bundle.sha256))) return new Response(null, { status: 304, headers });
-  return new Response(`${r.bundle.sha256}  ${r.filename}\n`, { status: 200, headers });
+/** A download answer as plain data, written out as a web Response or straight onto a node response. */
+export interface DownloadAnswer {
+  status: 200 | 304;
+  headers: Record<string, string>;
+  body: Uint8Array | string | null;
+  resolved: ResolvedBundle;
+}
+
+/** The answer to a resolved download: 304 when If-None-Match names the bundle, else the zip (or checksum). */
+function answerResolved(r: ResolvedBundle, request: DownloadRequest, bytes: () => Uint8Array): DownloadAnswer {
+  const headers = bundleHeaders(r);
+  if (request.what === 'bundle.sha256') headers['Content-Type'] = 'text/plain; charset=utf-8';
+  if (etagMatches(request.ifNoneMatch, bundleEtag(r.bundle.sha256))) return { status: 304, headers, body: null, resolved: r };
+  if (request.what === 'bundle.sha256') return { status: 200, headers, body: `${r.bundle.sha256}  ${r.filename}\n`, resolved: r };
+  const zip = bytes();
+  headers['Content-Type'] = 'application/zip';
+  headers['Content-Length'] = String(zip.byteLength);
+  headers['Content-Disposition'] = `attachment; filename="${r.filename}"`;
+  return { status: 200, headers, body: request.method === 'HEAD' ? null : zip, resolved: r };
+}
+
+/**
+ * Answers a download: resolves it (generating the bundle on first use), reads the bytes and
+ * records the use. Throws ApiError (400 for a bad query, 404 for any miss).
+ */
+export async function answerDownload(db: Db, credentials: Credentials, request: DownloadRequest): Promise<DownloadAnswer> {
+  const query = parseBundleQuery(request.search);
+  const resolved = await resolveBundle(db, credentials, { ...request.params, ...query });
+  const zip = request.what === 'bundle' ? await readBundleBytes(db, resolved.bundle) : new Uint8Array();
+  const answer = answerResolved(resolved, request, () => zip);
+  await recordDownload(db, resolved, request.what, answer.status === 304);
+  return answer;
+}
+
+/**
+ * Answers a CI key's download from the in-process caches alone (the epoch-checked resolution and
+ * the stored bytes), or null when anything is missing, so the caller hands the request to the
+ * app. The caller records the use (recordDownload) after answering.
+ */
+export function answerCachedDownload(bearer: string, request: DownloadRequest): DownloadAnswer | null {
+  if (!bearer.startsWith(CI_KEY_PREFIX) || bearer.length > 200) return null;
+  let query: z.infer<typeof bundleQuerySchema>;
+  try {
+    query = parseBundleQuery(request.search);
+  } catch {
+    return null; // the app answers the 400
+  }
+  const resolved = getCachedDownload<ResolvedBundle>(downloadCacheKey(bearer, { ...request.params, ...query }));
+  if (!resolved) return null;
+  const zip = request.what === 'bundle' ? peekBundleBytes(resolved.bundle.sha256) : undefined;
+  if (request.what === 'bundle' && !zip) return null;
+  return answerResolved(resolved, request, () => zip!);
+}
+
+/** A download answer as a web Response. */
+export function downloadAnswerToResponse(answer: DownloadAnswer): Response {
+  return new Response(answer.body as BodyInit | null, { status: answer.status, headers: answer.headers });
 }

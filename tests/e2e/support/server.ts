@@ -1,6 +1,6 @@
 /**
  * Runs the BUILT app for e2e tests: builds once (skipped when current, see
- * scripts/build-if-needed.mjs), starts `dist/server/entry.mjs` on a free loopback
+ * scripts/build-if-needed.mjs), starts the production server `dist/server/serve.mjs` on a free loopback
  * port with a fresh data directory, waits until /api/health answers, and stops it.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
@@ -8,7 +8,7 @@ import fs from 'node:fs';
 import net from 'node:net';
 import os from 'node:os';
 import path from 'node:path';
-import { ensureBuilt, outDirOf, ROOT } from '../../../scripts/build-if-needed.mjs';
+import { ensureBuilt, outDirOf, ROOT, serverEntryOf } from '../../../scripts/build-if-needed.mjs';
 
 /** A running test server. */
 export type TestServer = {
@@ -71,7 +71,7 @@ export async function startServer(options: StartOptions = {}): Promise<TestServe
   for (const [k, v] of Object.entries({ ...process.env, HOST: '127.0.0.1', PORT: String(port), QUIESCE_DATA_DIR: dataDir, QUIESCE_DEMO: '1', ASTRO_TELEMETRY_DISABLED: '1', NODE_ENV: 'production', SMTP_URL: undefined, DATABASE_URL: undefined, ...options.env })) {
     if (v !== undefined) env[k] = v;
   }
-  const child = spawn(process.execPath, [path.join(outDir, 'server', 'entry.mjs')], { cwd: ROOT, env, stdio: ['ignore', 'pipe', 'pipe'] });
+  const child = spawn(process.execPath, [serverEntryOf(outDir)], { cwd: ROOT, env, stdio: ['ignore', 'pipe', 'pipe'] });
   let output = '';
   child.stdout?.on('data', (d: Buffer) => (output += d.toString()));
   child.stderr?.on('data', (d: Buffer) => (output += d.toString()));
