@@ -4,144 +4,19 @@
  * total states under single-input changes. Everything here is typed arrays; names are only
  * built by the callers, for findings.
  */
-import { countColumns, grayKeys, keyToColumn, NONE, type FlowTable } from './model';
-import { SETTLE_OK, SETTLE_OSCILLATION, SETTLE_UNSPECIFIED, type SettledTable } from './settle';
+import { grayKeys, keyToColumn, NONE, type FlowTable } from './model';
+import { settleColumns, SETTLE_OK, type SettledCells, type SettledTable } from './settle';
 import type { Runtime } from './runtime';
 
 // module-local copies: imported bindings can compile to getter calls, which hot loops should not pay for
 const L_NONE: number = NONE;
 const L_SETTLE_OK: number = SETTLE_OK;
-const L_SETTLE_OSCILLATION: number = SETTLE_OSCILLATION;
-const L_SETTLE_UNSPECIFIED: number = SETTLE_UNSPECIFIED;
 
-/**
- * Every cell settled, indexed like `FlowTable.next`. `term` is the cell where settling ends: the
- * stable cell, the unspecified cell, or for an oscillation the cycle's cell with the lowest state
- * index (so one cycle has one `term`, which dedupes oscillations).
- *
- * The output summaries describe the settle path from a cell to its stable end (only where
- * `fault` is L_SETTLE_OK), with don't-cares dropped, as bit masks over the outputs:
- * `firstCare`/`firstValue`: whether some cell on the path specifies the output, and the first such
- * value (this is also the value a backward fill gives the cell); `once`/`twice`: the specified
- * values change at least once / at least twice along the path; `risk`: some don't-care transient
- * cell strictly after this one could add a change (see `computeEntryRisk`).
- */
-export interface SettledCells {
-  columns: number;
-  term: Int32Array;
-  fault: Uint8Array;
-  /** Settled state of each cell, or NONE where settling fails (2 bytes a cell, for the random-access loops). */
-  state: Int16Array;
-  firstCare: Uint32Array;
-  firstValue: Uint32Array;
-  once: Uint32Array;
-  twice: Uint32Array;
-  risk: Uint32Array;
-}
+export type { SettledCells };
 
-const EMPTY_U32 = new Uint32Array(0);
-
-/**
- * Settles every cell and summarizes output changes along each settle path, in time linear in the
- * table size: each column is a functional graph, so one memoized walk per cell is enough. Walking
- * column by column keeps the walk marks in a small per-state array (measured several times faster
- * than row-by-row walking with per-cell marks on a 1024 x 1024 table).
- */
+/** Settles every cell and summarizes output changes along each settle path (see settleColumns). */
 export function settleCells(t: FlowTable): SettledCells {
-  const inputCount = t.inputs.length;
-  const cols = countColumns(inputCount);
-  const n = t.states.length;
-  const size = n * cols;
-  const next = t.next;
-  const outCare = t.outCare;
-  const outValue = t.outValue;
-  const withOutputs = t.outputs.length > 0;
-  const term = new Int32Array(size);
-  const fault = new Uint8Array(size);
-  const state = new Int16Array(size);
-  const firstCare = withOutputs ? new Uint32Array(size) : EMPTY_U32;
-  const firstValue = withOutputs ? new Uint32Array(size) : EMPTY_U32;
-  const once = withOutputs ? new Uint32Array(size) : EMPTY_U32;
-  const twice = withOutputs ? new Uint32Array(size) : EMPTY_U32;
-  const risk = withOutputs ? new Uint32Array(size) : EMPTY_U32;
-  // per state, within one column: 0 unvisited, 1 on the current walk, 2 done
-  const mark = new Uint8Array(n);
-  const pos = new Int32Array(n);
-  const stack = new Int32Array(n + 1);
-  for (let c = 0; c < cols; c++) {
-    mark.fill(0);
-    for (let s0 = 0; s0 < n; s0++) {
-      if (mark[s0] === 2) continue;
-      let depth = 0;
-      let s = s0;
-      let resTerm = 0;
-      let resFault = L_SETTLE_OK;
-      for (;;) {
-        const m = mark[s]!;
-        if (m === 2) {
-          const cell = (s << inputCount) | c;
-          resTerm = term[cell]!;
-          resFault = fault[cell]!;
-          break;
-        }
-        if (m === 1) {
-          // a loop from s to the top of the stack: name it by its lowest state
-          let lo = s;
-          for (let i = pos[s]!; i < depth; i++) if (stack[i]! < lo) lo = stack[i]!;
-          resTerm = (lo << inputCount) | c;
-          resFault = L_SETTLE_OSCILLATION;
-          break;
-        }
-        mark[s] = 1;
-        pos[s] = depth;
-        stack[depth++] = s;
-        const cell = (s << inputCount) | c;
-        const nx = next[cell]!;
-        if (nx === L_NONE) {
-          resTerm = cell;
-          resFault = L_SETTLE_UNSPECIFIED;
-          break;
-        }
-        if (nx === s) {
-          resTerm = cell;
-          break;
-        }
-        s = nx;
-      }
-      const resState = resFault === L_SETTLE_OK ? resTerm >> inputCount : L_NONE;
-      for (let i = depth - 1; i >= 0; i--) {
-        const v = stack[i]!;
-        const cell = (v << inputCount) | c;
-        mark[v] = 2;
-        term[cell] = resTerm;
-        fault[cell] = resFault;
-        state[cell] = resState;
-        if (resFault !== L_SETTLE_OK || !withOutputs) continue;
-        const care = outCare[cell]!;
-        const val = outValue[cell]! & care;
-        const nx = next[cell]!;
-        if (nx === v) {
-          firstCare[cell] = care;
-          firstValue[cell] = val;
-          continue;
-        }
-        const y = (nx << inputCount) | c;
-        const fc = firstCare[y]!;
-        const fv = firstValue[y]!;
-        const d = care & fc & (val ^ fv);
-        const onceY = once[y]!;
-        firstCare[cell] = (care | fc) >>> 0;
-        const fval = (val | (fv & ~care)) >>> 0;
-        firstValue[cell] = fval;
-        once[cell] = (onceY | d) >>> 0;
-        twice[cell] = (twice[y]! | (d & onceY)) >>> 0;
-        // the step cell -> y is risky for outputs y leaves open although it is transient and the
-        // value it heads to equals the value before it (a change there would be a second one)
-        risk[cell] = (risk[y]! | (next[y] !== nx ? ~outCare[y]! & fc & ~(fval ^ fv) : 0)) >>> 0;
-      }
-    }
-  }
-  return { columns: cols, term, fault, state, firstCare, firstValue, once, twice, risk };
+  return settleColumns(t, true);
 }
 
 /**
