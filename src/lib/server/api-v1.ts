@@ -1,11 +1,12 @@
 /**
- * Shared pieces of the v1 review, release, key and download endpoints: answering thrown errors
- * as JSON, reading the caller's credentials, guards, and query parsing. Reads accept a session
- * or a CI key and answer 404 for anyone who may not see the resource; writes need a session
- * (401 without one, 404 for non-members, 403 for a role that may not).
+ * Shared pieces of the v1 endpoints: answering thrown errors as JSON, reading the caller's
+ * credentials, guards, and path and query parsing. Reads through guardRead accept a session or a
+ * CI key and answer 404 for anyone who may not see the resource; guardWorkspace and
+ * guardController need a member's session (401 without one, 404 for non-members, 403 for a role
+ * that may not).
  */
 import type { APIContext } from 'astro';
-import type { z, ZodTypeAny } from 'zod';
+import { z, type ZodTypeAny } from 'zod';
 import { readBearer } from './ci-keys';
 import { requireController } from './controllers';
 import type { Db } from './db';
@@ -52,16 +53,16 @@ export async function guardRead(ctx: Ctx, action: Action = 'controller.read'): P
   return requireControllerAccess(dbOf(ctx), credentialsOf(ctx), String(ctx.params.workspace ?? ''), String(ctx.params.controller ?? ''), action);
 }
 
-/** Guards a write in a workspace: a signed-in member whose role allows `action` (CI keys never write). */
-export async function guardWrite(ctx: Ctx, action: Action): Promise<MemberContext> {
+/** Guards a workspace route: a signed-in member (401, 404) whose role allows `action` (403); CI keys get 401. */
+export async function guardWorkspace(ctx: Ctx, action: Action): Promise<MemberContext> {
   const userId = ctx.locals.user?.id;
-  if (!userId) throw fail.unauthenticated(readBearer(ctx.request) !== null ? 'CI keys are read-only; sign in to do this.' : undefined);
+  if (!userId) throw fail.unauthenticated(readBearer(ctx.request) !== null ? 'A CI key only downloads and reads; sign in to do this.' : undefined);
   return requireMemberAction(dbOf(ctx), userId, String(ctx.params.workspace ?? ''), action);
 }
 
-/** guardWrite plus the controller named in the path (404 when it is not in the workspace). */
-export async function guardControllerWrite(ctx: Ctx, action: Action): Promise<{ member: MemberContext; controller: ControllerRow }> {
-  const member = await guardWrite(ctx, action);
+/** guardWorkspace plus the controller named in the path (404 when it is not in the workspace). */
+export async function guardController(ctx: Ctx, action: Action): Promise<{ member: MemberContext; controller: ControllerRow }> {
+  const member = await guardWorkspace(ctx, action);
   const controller = await requireController(dbOf(ctx), member.workspace.id, String(ctx.params.controller ?? ''));
   return { member, controller };
 }
@@ -74,6 +75,9 @@ export function parseQuery<S extends ZodTypeAny>(url: URL, schema: S): z.infer<S
   if (!parsed.success) throw zodToApiError(parsed.error);
   return parsed.data;
 }
+
+/** A positive revision number in a path or query. */
+export const revisionNumberSchema = z.coerce.number().int().min(1).max(1_000_000);
 
 /** A revision number from the `{rev}` path segment of a review route (404 when not a number). */
 export function revisionNumberOf(ctx: Pick<APIContext, 'params'>): number {

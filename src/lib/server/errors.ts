@@ -5,7 +5,7 @@ import { ZodError } from 'zod';
 export type ErrorStatus = 400 | 401 | 403 | 404 | 409 | 413 | 415 | 422 | 429 | 500 | 503;
 
 /** The JSON body of every error answer. */
-export type ErrorBody = { error: { code: string; message: string; field?: string } };
+export type ErrorBody = { error: { code: string; message: string; field?: string } & Record<string, unknown> };
 
 /** An expected failure with its HTTP status; thrown by server modules, answered by endpoints. */
 export class ApiError extends Error {
@@ -13,12 +13,14 @@ export class ApiError extends Error {
   readonly code: string;
   readonly field: string | undefined;
   readonly headers: Record<string, string>;
+  /** Extra facts for the JSON body (e.g. the head of a stale base, a source's located issues). */
+  readonly details: Record<string, unknown>;
 
   constructor(
     status: ErrorStatus,
     code: string,
     message: string,
-    options: { field?: string | undefined; headers?: Record<string, string> } = {},
+    options: { field?: string | undefined; headers?: Record<string, string>; details?: Record<string, unknown> } = {},
   ) {
     super(message);
     this.name = 'ApiError';
@@ -26,6 +28,7 @@ export class ApiError extends Error {
     this.code = code;
     this.field = options.field;
     this.headers = options.headers ?? {};
+    this.details = options.details ?? {};
   }
 }
 
@@ -124,7 +127,7 @@ export function zodToApiError(error: ZodError): ApiError {
 export function jsonError(error: unknown): Response {
   const apiError = toApiError(error);
   if (apiError.status === 500) console.error('[quiesce] unexpected error:', error);
-  const body: ErrorBody = { error: { code: apiError.code, message: apiError.message } };
+  const body: ErrorBody = { error: { code: apiError.code, message: apiError.message, ...apiError.details } };
   if (apiError.field) body.error.field = apiError.field;
   return new Response(JSON.stringify(body), {
     status: apiError.status,

@@ -27,6 +27,7 @@ export class StaleBaseError extends ApiError {
     super(409, 'stale_base', `This controller moved on: you edited r${base === 0 ? '0 (none)' : base}, but the newest revision is r${head}. Nothing was saved.`, {
       field: 'base',
       headers: { 'X-Quiesce-Head': String(head) },
+      details: { head, base },
     });
     this.name = 'StaleBaseError';
     this.head = head;
@@ -39,7 +40,7 @@ export class SourceError extends ApiError {
   readonly issues: EngineIssue[];
   constructor(issues: EngineIssue[], prefix = '') {
     const first = issues[0];
-    super(400, 'invalid_source', `${prefix}${first ? `${first.where}: ${first.message}${first.hint ? ` (${first.hint})` : ''}` : 'the source is not valid'}${issues.length > 1 ? ` (+${issues.length - 1} more)` : ''}`, { field: 'source' });
+    super(400, 'invalid_source', `${prefix}${first ? `${first.where}: ${first.message}${first.hint ? ` (${first.hint})` : ''}` : 'the source is not valid'}${issues.length > 1 ? ` (+${issues.length - 1} more)` : ''}`, { field: 'source', details: { issues: issues.slice(0, 50) } });
     this.name = 'SourceError';
     this.issues = issues;
   }

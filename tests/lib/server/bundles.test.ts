@@ -8,7 +8,6 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { and, eq, sql } from 'drizzle-orm';
 import { generateBundle } from '../../../src/lib/codegen/bundle';
 import { interchangeToTable } from '../../../src/lib/engine/model';
-import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { clearBundleBytesCache, ensureBundle, findBundle, loadBundleHashes, readBundleBytes } from '../../../src/lib/server/bundles';
 import { parseRevSpec, resolveBundle } from '../../../src/lib/server/downloads';
 import { bumpDownloadCache, getCachedDownload, readDownloadEpoch, setCachedDownload } from '../../../src/lib/server/download-cache';
@@ -18,21 +17,19 @@ import * as bundleRoute from '../../../src/pages/api/v1/workspaces/[workspace]/c
 import * as checksumRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/bundle.sha256';
 import * as historyRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/index';
 import { BACKENDS } from './support/backends';
-import { addController, buildWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
+import { addController, openWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
 
 const sha256 = (bytes: Uint8Array) => createHash('sha256').update(bytes).digest('hex');
 
 describe.each(BACKENDS)('bundles on $name', (backend) => {
-  let handle: DatabaseHandle;
   let world: World;
   let controller: s.ControllerRow;
   beforeAll(async () => {
-    handle = await backend.open();
-    world = await buildWorld(handle.db);
+    world = await openWorld(backend);
     controller = await addController(world, 'Hoist door interlock');
   });
   afterAll(async () => {
-    await handle?.close();
+    await world?.close();
   });
 
   const params = (rev: string) => ({ workspace: world.slug, controller: controller.slug, rev });

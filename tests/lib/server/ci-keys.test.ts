@@ -2,7 +2,6 @@ import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
 import { authenticateCiKey, createCiKey, listCiKeys, readBearer, revokeCiKey } from '../../../src/lib/server/ci-keys';
-import type { DatabaseHandle } from '../../../src/lib/server/db';
 import * as s from '../../../src/lib/server/schema';
 import * as openapiRoute from '../../../src/pages/api/v1/openapi.json';
 import * as keyRoute from '../../../src/pages/api/v1/workspaces/[workspace]/keys/[key]';
@@ -10,7 +9,7 @@ import * as keysRoute from '../../../src/pages/api/v1/workspaces/[workspace]/key
 import * as bundleRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/bundle';
 import * as compareRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/compare';
 import { BACKENDS } from './support/backends';
-import { addController, buildWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
+import { addController, openWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
 
 describe('bearer header', () => {
   it('reads Authorization: Bearer and nothing else', () => {
@@ -23,18 +22,16 @@ describe('bearer header', () => {
 });
 
 describe.each(BACKENDS)('CI keys on $name', (backend) => {
-  let handle: DatabaseHandle;
   let world: World;
   let door: s.ControllerRow;
   let press: s.ControllerRow;
   beforeAll(async () => {
-    handle = await backend.open();
-    world = await buildWorld(handle.db);
+    world = await openWorld(backend);
     door = await addController(world, 'Door interlock', { revisions: 1 });
     press = await addController(world, 'Two-hand press', { revisions: 1 });
   });
   afterAll(async () => {
-    await handle?.close();
+    await world?.close();
   });
 
   const download = (controller: string, bearer: string) =>

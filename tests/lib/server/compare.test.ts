@@ -1,12 +1,11 @@
 import { parsePatch, applyPatch } from 'diff';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { compareFiles, compareRevisions, comparisonSchema, comparisonToJson, comparisonToUnified, textsToPatch } from '../../../src/lib/server/compare';
-import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { createRevision, getRevision } from '../../../src/lib/server/revisions';
 import type { ControllerRow } from '../../../src/lib/server/schema';
 import * as compareRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/compare';
 import { BACKENDS } from './support/backends';
-import { addController, buildWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
+import { addController, openWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
 
 describe('unified diffs', () => {
   // Reference: the `diff` npm package's own parser and applier read our patches back
@@ -31,16 +30,14 @@ describe('unified diffs', () => {
 });
 
 describe.each(BACKENDS)('compare on $name', (backend) => {
-  let handle: DatabaseHandle;
   let world: World;
   let controller: ControllerRow;
   beforeAll(async () => {
-    handle = await backend.open();
-    world = await buildWorld(handle.db);
+    world = await openWorld(backend);
     controller = await addController(world, 'Hoist door interlock');
   });
   afterAll(async () => {
-    await handle?.close();
+    await world?.close();
   });
 
   it('compares a revision against its base: changed cell, source line, findings and generated code', async () => {

@@ -1,6 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
-import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { createStarterTable } from '../../../src/lib/server/controllers';
 import { createRevision, getHeadRevision, StaleBaseError } from '../../../src/lib/server/revisions';
 import { revisions } from '../../../src/lib/server/schema';
@@ -13,7 +12,7 @@ import * as saveRoute from '../../../src/pages/api/v1/workspaces/[workspace]/con
 import * as revRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/index';
 import * as generateRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/generate';
 import { BACKENDS } from './support/backends';
-import { buildWorld, callEndpoint, type Caller, type World } from './support/review-world';
+import { openWorld, callEndpoint, type Caller, type World } from './support/review-world';
 
 // Gated (D) latch primitive flow table: check-data/README.md worked example (Mano and Ciletti,
 // Digital Design, asynchronous sequential circuits chapter; encoded from memory).
@@ -41,16 +40,14 @@ describe('starter table', () => {
 });
 
 describe.each(BACKENDS)('controller and revision endpoints on $name', (backend) => {
-  let handle: DatabaseHandle;
   let world: World;
   const params = (extra: Record<string, string> = {}) => ({ workspace: world.slug, ...extra });
 
   beforeAll(async () => {
-    handle = await backend.open();
-    world = await buildWorld(handle.db, `wb-${backend.name}`);
+    world = await openWorld(backend, `wb-${backend.name}`);
   });
   afterAll(async () => {
-    await handle?.close();
+    await world?.close();
   });
 
   it('lets owners and editors create, refuses reviewers and viewers (403), hides the workspace from outsiders (404)', async () => {
@@ -98,11 +95,11 @@ describe.each(BACKENDS)('controller and revision endpoints on $name', (backend) 
     expect(((await stale.json()) as { error: { code: string; head: number } }).error).toMatchObject({ code: 'stale_base', head: 2 });
     const c = (await (await callEndpoint(world, oneRoute.GET, 'viewer', { params: p })).json()) as { controller: { id: string; head: number } };
     expect(c.controller.head).toBe(2);
-    expect((await handle.db.select().from(revisions).where(eq(revisions.controllerId, c.controller.id))).length).toBe(2);
+    expect((await world.db.select().from(revisions).where(eq(revisions.controllerId, c.controller.id))).length).toBe(2);
     expect((await callEndpoint(world, saveRoute.POST, 'viewer', { params: p, body: { base: 2, source: LATCH, message: '' } })).status).toBe(403);
-    await expect(createRevision(handle.db, { controllerId: c.controller.id, baseNumber: 0, source: LATCH, message: '', author: null })).rejects.toBeInstanceOf(StaleBaseError);
+    await expect(createRevision(world.db, { controllerId: c.controller.id, baseNumber: 0, source: LATCH, message: '', author: null })).rejects.toBeInstanceOf(StaleBaseError);
     // the stored source is canonical and parses back to the same table
-    const head = await getHeadRevision(handle.db, c.controller.id);
+    const head = await getHeadRevision(world.db, c.controller.id);
     expect(parseText(head!.source).states).toEqual(['a', 'b', 'c', 'd', 'e', 'f']);
   });
 

@@ -3,13 +3,12 @@ import type { AddressInfo } from 'node:net';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
 import { createCiKey, resetCiKeyUseThrottle, revokeCiKey } from '../../../src/lib/server/ci-keys';
-import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { createDownloadFastPath } from '../../../src/lib/server/download-fast-path';
 import * as s from '../../../src/lib/server/schema';
 import * as bundleRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/bundle';
 import * as checksumRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/bundle.sha256';
 import { BACKENDS } from './support/backends';
-import { addController, buildWorld, callEndpoint, type World } from './support/review-world';
+import { addController, openWorld, callEndpoint, type World } from './support/review-world';
 
 /** What the test server answers when the fast path passes a request on. */
 const PASSED_ON = 599;
@@ -17,15 +16,13 @@ const PASSED_ON = 599;
 type Answer = { status: number; headers: Record<string, string>; body: Buffer };
 
 describe.each(BACKENDS)('download fast path on $name', (backend) => {
-  let handle: DatabaseHandle;
   let world: World;
   let door: s.ControllerRow;
   let server: http.Server;
   let origin: string;
 
   beforeAll(async () => {
-    handle = await backend.open();
-    world = await buildWorld(handle.db, 'fastlane');
+    world = await openWorld(backend, 'fastlane');
     door = await addController(world, 'Door interlock');
     const fastPath = createDownloadFastPath(async () => world.db);
     server = http.createServer((req, res) => {
@@ -38,7 +35,7 @@ describe.each(BACKENDS)('download fast path on $name', (backend) => {
   });
   afterAll(async () => {
     await new Promise((resolve) => server?.close(resolve));
-    await handle?.close();
+    await world?.close();
   });
 
   const path = (rev: string, file = 'bundle') => `/api/v1/workspaces/${world.slug}/controllers/${door.slug}/revisions/${rev}/${file}`;

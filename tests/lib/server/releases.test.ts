@@ -1,7 +1,6 @@
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq, sql } from 'drizzle-orm';
-import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { listHistory } from '../../../src/lib/server/history';
 import { checkReleaseLabel, listReleases, publishRelease } from '../../../src/lib/server/releases';
 import { decideReview, requestReview } from '../../../src/lib/server/reviews';
@@ -10,15 +9,14 @@ import * as s from '../../../src/lib/server/schema';
 import * as bundleRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/bundle';
 import * as releasesRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/releases';
 import { BACKENDS } from './support/backends';
-import { addController, buildWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
+import { addController, mailLinkOf, openWorld, callEndpoint, CALLERS, type Caller, type World } from './support/review-world';
 
-const link = (world: World) => ({ origin: 'http://127.0.0.1:4321', workspaceSlug: world.slug });
 const sha256 = (bytes: Uint8Array) => createHash('sha256').update(bytes).digest('hex');
 
 async function approvedController(world: World, name: string): Promise<s.ControllerRow> {
   const c = await addController(world, name);
-  await requestReview(world.db, world.members.editor, c, 2, {}, link(world));
-  await decideReview(world.db, world.members.reviewer, c, 2, { verdict: 'approve' }, link(world));
+  await requestReview(world.db, world.members.editor, c, 2, {}, mailLinkOf(world));
+  await decideReview(world.db, world.members.reviewer, c, 2, { verdict: 'approve' }, mailLinkOf(world));
   return c;
 }
 
@@ -33,14 +31,12 @@ describe('release labels', () => {
 });
 
 describe.each(BACKENDS)('releases on $name', (backend) => {
-  let handle: DatabaseHandle;
   let world: World;
   beforeAll(async () => {
-    handle = await backend.open();
-    world = await buildWorld(handle.db);
+    world = await openWorld(backend);
   });
   afterAll(async () => {
-    await handle?.close();
+    await world?.close();
   });
 
   it('publishes an approved revision once per label, immutable, and serves it as latest-release', async () => {

@@ -1,6 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { and, eq } from 'drizzle-orm';
-import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { listHistory } from '../../../src/lib/server/history';
 import { listOutbox } from '../../../src/lib/server/mail';
 import { addComment, decideReview, getReviewPanel, requestReview } from '../../../src/lib/server/reviews';
@@ -11,9 +10,8 @@ import * as reviewsRoute from '../../../src/pages/api/v1/workspaces/[workspace]/
 import * as verdictRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/[rev]/verdict';
 import * as saveRoute from '../../../src/pages/api/v1/workspaces/[workspace]/controllers/[controller]/revisions/index';
 import { BACKENDS } from './support/backends';
-import { addController, buildWorld, callEndpoint, CALLERS, editStarterSource, type Caller, type World } from './support/review-world';
+import { addController, mailLinkOf, openWorld, callEndpoint, CALLERS, editStarterSource, type Caller, type World } from './support/review-world';
 
-const link = (world: World) => ({ origin: 'http://127.0.0.1:4321', workspaceSlug: world.slug });
 
 /** A source whose r-next has an error finding: one cell of the guard row points at nothing. */
 function withErrorFinding(source: string): string {
@@ -24,19 +22,17 @@ function withErrorFinding(source: string): string {
 }
 
 describe.each(BACKENDS)('reviews on $name', (backend) => {
-  let handle: DatabaseHandle;
   let world: World;
   beforeAll(async () => {
-    handle = await backend.open();
-    world = await buildWorld(handle.db);
+    world = await openWorld(backend);
   });
   afterAll(async () => {
-    await handle?.close();
+    await world?.close();
   });
 
   it('runs the review lifecycle: request, e-mail, comment on a cell, changes, new revision supersedes, approve', async () => {
     const c = await addController(world, 'Lifecycle interlock');
-    const created = await requestReview(world.db, world.members.editor, c, 2, { note: 'Please check the open_held change.' }, link(world));
+    const created = await requestReview(world.db, world.members.editor, c, 2, { note: 'Please check the open_held change.' }, mailLinkOf(world));
     expect(created.map((r) => [r.reviewer, r.state])).toEqual([['Rhea Reviewer', 'pending']]);
     // The e-mail goes through the outbox with a link to the compare of r2 against its base.
     const [mail] = await listOutbox(world.db, { to: world.users.reviewer.email, limit: 1 });
@@ -48,14 +44,14 @@ describe.each(BACKENDS)('reviews on $name', (backend) => {
     expect(history[0]!.review).toBe('pending');
     expect(Object.keys(history[0]!.bundles).sort()).toEqual(['c', 'rust']);
     // Asking again for the same reviewer is refused.
-    await expect(requestReview(world.db, world.members.editor, c, 2, {}, link(world))).rejects.toMatchObject({ status: 409, code: 'already_requested' });
+    await expect(requestReview(world.db, world.members.editor, c, 2, {}, mailLinkOf(world))).rejects.toMatchObject({ status: 409, code: 'already_requested' });
 
     await addComment(world.db, world.members.reviewer, c, 2, { body: 'Why wait here instead of blocking?', cell: { state: 'open_held', inputs: '11' } });
     await addComment(world.db, world.members.editor, c, 2, { body: 'So a held start cannot restart the motor.' });
     await expect(addComment(world.db, world.members.reviewer, c, 2, { body: 'x', cell: { state: 'nowhere', inputs: '11' } })).rejects.toMatchObject({ status: 400, field: 'cell.state' });
     await expect(addComment(world.db, world.members.reviewer, c, 2, { body: 'x', cell: { state: 'open', inputs: '111' } })).rejects.toMatchObject({ status: 400, field: 'cell.inputs' });
 
-    let panel = await decideReview(world.db, world.members.reviewer, c, 2, { verdict: 'request_changes', comment: 'Name the waiting state more clearly.' }, link(world));
+    let panel = await decideReview(world.db, world.members.reviewer, c, 2, { verdict: 'request_changes', comment: 'Name the waiting state more clearly.' }, mailLinkOf(world));
     expect(panel.state).toBe('changes_requested');
     expect(panel.comments.map((x) => [x.author, x.cell])).toEqual([
       ['Rhea Reviewer', { state: 'open_held', inputs: '11' }],
@@ -68,7 +64,7 @@ describe.each(BACKENDS)('reviews on $name', (backend) => {
     // r3 asked for review, then r4 is saved: r3's pending review is superseded.
     const r2 = (await getRevision(world.db, c.id, 2))!;
     await createRevision(world.db, { controllerId: c.id, baseNumber: 2, source: r2.source.replace(/\bopen_held\b/g, 'start_held'), message: 'rename', author: world.users.editor.id });
-    await requestReview(world.db, world.members.editor, c, 3, {}, link(world));
+    await requestReview(world.db, world.members.editor, c, 3, {}, mailLinkOf(world));
     const r3 = (await getRevision(world.db, c.id, 3))!;
     await createRevision(world.db, { controllerId: c.id, baseNumber: 3, source: r3.source.replace('run/-', 'run/1'), message: 'specify run output', author: world.users.editor.id });
     panel = await getReviewPanel(world.db, c, 3);
@@ -77,11 +73,11 @@ describe.each(BACKENDS)('reviews on $name', (backend) => {
     // r2's decided review is kept as it was.
     expect((await getReviewPanel(world.db, c, 2)).state).toBe('changes_requested');
     // Older revisions can no longer be reviewed or approved.
-    await expect(decideReview(world.db, world.members.reviewer, c, 3, { verdict: 'approve' }, link(world))).rejects.toMatchObject({ status: 409, code: 'superseded' });
-    await expect(requestReview(world.db, world.members.editor, c, 3, {}, link(world))).rejects.toMatchObject({ status: 409, code: 'superseded' });
+    await expect(decideReview(world.db, world.members.reviewer, c, 3, { verdict: 'approve' }, mailLinkOf(world))).rejects.toMatchObject({ status: 409, code: 'superseded' });
+    await expect(requestReview(world.db, world.members.editor, c, 3, {}, mailLinkOf(world))).rejects.toMatchObject({ status: 409, code: 'superseded' });
 
-    await requestReview(world.db, world.members.editor, c, 4, {}, link(world));
-    panel = await decideReview(world.db, world.members.reviewer, c, 4, { verdict: 'approve' }, link(world));
+    await requestReview(world.db, world.members.editor, c, 4, {}, mailLinkOf(world));
+    panel = await decideReview(world.db, world.members.reviewer, c, 4, { verdict: 'approve' }, mailLinkOf(world));
     expect(panel.state).toBe('approved');
     expect(panel.reviews[0]!.decidedAt).not.toBeNull();
     const [approved] = await listOutbox(world.db, { to: world.users.editor.email, limit: 1 });
@@ -96,14 +92,14 @@ describe.each(BACKENDS)('reviews on $name', (backend) => {
     const r2 = (await getRevision(world.db, c.id, 2))!;
     const r3 = await createRevision(world.db, { controllerId: c.id, baseNumber: 2, source: withErrorFinding(r2.source), message: 'leave a cell open', author: world.users.editor.id });
     expect(r3.findings.error).toBeGreaterThan(0);
-    await expect(decideReview(world.db, world.members.reviewer, c, 3, { verdict: 'approve' }, link(world))).rejects.toMatchObject({ status: 409, code: 'has_errors' });
+    await expect(decideReview(world.db, world.members.reviewer, c, 3, { verdict: 'approve' }, mailLinkOf(world))).rejects.toMatchObject({ status: 409, code: 'has_errors' });
     // Requesting changes on it is fine.
-    expect((await decideReview(world.db, world.members.reviewer, c, 3, { verdict: 'request_changes' }, link(world))).state).toBe('changes_requested');
+    expect((await decideReview(world.db, world.members.reviewer, c, 3, { verdict: 'request_changes' }, mailLinkOf(world))).state).toBe('changes_requested');
     // An owner who wrote the revision cannot sign it off.
     const own = await addController(world, 'Owner-written interlock', { revisions: 1 });
     const r1 = (await getRevision(world.db, own.id, 1))!;
     await createRevision(world.db, { controllerId: own.id, baseNumber: 1, source: editStarterSource(r1.source), message: 'owner edit', author: world.users.owner.id });
-    await expect(decideReview(world.db, world.members.owner, own, 2, { verdict: 'approve' }, link(world))).rejects.toMatchObject({ status: 403, code: 'own_revision' });
+    await expect(decideReview(world.db, world.members.owner, own, 2, { verdict: 'approve' }, mailLinkOf(world))).rejects.toMatchObject({ status: 403, code: 'own_revision' });
   });
 
   it('answers a stale-base save with 409 and loses nothing', async () => {

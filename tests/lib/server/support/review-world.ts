@@ -8,6 +8,7 @@ import type { APIContext, APIRoute } from 'astro';
 import { createCiKey } from '../../../../src/lib/server/ci-keys';
 import { createController } from '../../../../src/lib/server/controllers';
 import type { Db } from '../../../../src/lib/server/db';
+import type { Backend } from './backends';
 import { newId } from '../../../../src/lib/server/ids';
 import { requireMember, type MemberContext } from '../../../../src/lib/server/permissions';
 import { createRevision } from '../../../../src/lib/server/revisions';
@@ -29,6 +30,8 @@ export interface World {
   /** A CI key of the workspace (every controller). */
   key: string;
   keyId: string;
+  /** Closes (and with PostgreSQL drops) the world's database. */
+  close: () => Promise<void>;
 }
 
 async function addUser(db: Db, name: string, email: string): Promise<SessionUser> {
@@ -38,7 +41,7 @@ async function addUser(db: Db, name: string, email: string): Promise<SessionUser
 }
 
 /** Builds the workspace, its members (one per role), an outsider with a workspace of their own, and a CI key. */
-export async function buildWorld(db: Db, slug = 'brightwater'): Promise<World> {
+async function buildWorld(db: Db, slug = 'brightwater'): Promise<Omit<World, 'close'>> {
   const people = {
     owner: await addUser(db, 'Olga Owner', `owner@${slug}.test`),
     editor: await addUser(db, 'Emil Editor', `editor@${slug}.test`),
@@ -58,6 +61,17 @@ export async function buildWorld(db: Db, slug = 'brightwater'): Promise<World> {
   for (const role of ['owner', 'editor', 'reviewer', 'viewer'] as const) members[role] = await requireMember(db, people[role].id, slug);
   const { secret, key } = await createCiKey(db, members.owner, { name: 'Line 2 firmware build' });
   return { db, slug, users: people, members, key: secret, keyId: key.id };
+}
+
+/** Opens a fresh database on `backend` and builds the world in it; `close()` closes (and drops) it. */
+export async function openWorld(backend: Backend, slug?: string): Promise<World> {
+  const handle = await backend.open();
+  return { ...(await buildWorld(handle.db, slug)), close: () => handle.close() };
+}
+
+/** Where e-mailed links of the world point (reviews, verdicts). */
+export function mailLinkOf(world: World): { origin: string; workspaceSlug: string } {
+  return { origin: 'http://127.0.0.1:4321', workspaceSlug: world.slug };
 }
 
 /** The r2 edit of the starter: closing the guard while start is still held now waits in `open_held` (so `blocked` becomes unreachable). */

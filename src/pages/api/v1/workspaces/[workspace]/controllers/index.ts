@@ -3,7 +3,7 @@ import type { APIRoute } from 'astro';
 import { z } from 'zod';
 import { FORMATS, formatFromFilename } from '../../../../../../lib/engine/formats';
 import { createController, CREATE_KINDS, summarizeControllers } from '../../../../../../lib/server/controllers';
-import { dbOf, guardWorkspace, handle } from '../../../../../../lib/server/controller-api';
+import { dbOf, guardWorkspace, respond } from '../../../../../../lib/server/api-v1';
 import { fail } from '../../../../../../lib/server/errors';
 import { json, readJson } from '../../../../../../lib/server/http';
 import { MAX_UPLOAD_BYTES } from '../../../../../../lib/server/revisions';
@@ -25,14 +25,14 @@ const createSchema = z
   .strict();
 
 export const GET: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const member = await guardWorkspace(ctx, 'controller.read');
     const items = await summarizeControllers(dbOf(ctx), member.workspace.id, { includeArchived: ctx.url.searchParams.get('archived') === '1' });
     return json({ controllers: items, role: member.role });
   });
 
 export const POST: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const member = await guardWorkspace(ctx, 'controller.create');
     // JSON adds escaping overhead to the file text; the text itself is checked against the exact limit.
     const body = await readJson(ctx.request, createSchema, { maxBytes: MAX_UPLOAD_BYTES * 2 + 64 * 1024 });

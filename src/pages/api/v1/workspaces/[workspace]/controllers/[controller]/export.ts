@@ -3,13 +3,13 @@ import type { APIRoute } from 'astro';
 import { z } from 'zod';
 import { FORMATS } from '../../../../../../../lib/engine/formats';
 import { exportController } from '../../../../../../../lib/server/controllers';
-import { dbOf, guardController, handle, revisionNumberSchema } from '../../../../../../../lib/server/controller-api';
+import { dbOf, guardController, respond, revisionNumberSchema } from '../../../../../../../lib/server/api-v1';
 import { zodToApiError } from '../../../../../../../lib/server/errors';
 
 const querySchema = z.object({ format: z.enum(FORMATS).default('text'), rev: revisionNumberSchema.optional() });
 
 export const GET: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const { controller } = await guardController(ctx, 'controller.read');
     const q = querySchema.safeParse({ format: ctx.url.searchParams.get('format') ?? undefined, rev: ctx.url.searchParams.get('rev') ?? undefined });
     if (!q.success) throw zodToApiError(q.error);

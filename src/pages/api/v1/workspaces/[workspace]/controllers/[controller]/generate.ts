@@ -6,7 +6,7 @@
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
 import { codegenTargetSchema, estimateFootprint, generateBundle } from '../../../../../../../lib/codegen';
-import { guardController, handle } from '../../../../../../../lib/server/controller-api';
+import { guardController, respond } from '../../../../../../../lib/server/api-v1';
 import { json, readJson } from '../../../../../../../lib/server/http';
 import { MAX_UPLOAD_BYTES, parseOrFail } from '../../../../../../../lib/server/revisions';
 
@@ -19,7 +19,7 @@ const bodySchema = z
   .strict();
 
 export const POST: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const { controller } = await guardController(ctx, 'bundle.download');
     const body = await readJson(ctx.request, bodySchema, { maxBytes: MAX_UPLOAD_BYTES * 2 + 64 * 1024 });
     const table = parseOrFail(body.source);

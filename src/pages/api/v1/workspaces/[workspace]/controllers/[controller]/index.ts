@@ -2,7 +2,7 @@
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
 import { renameController, setControllerArchived } from '../../../../../../../lib/server/controllers';
-import { dbOf, guardController, handle } from '../../../../../../../lib/server/controller-api';
+import { dbOf, guardController, respond } from '../../../../../../../lib/server/api-v1';
 import { fail } from '../../../../../../../lib/server/errors';
 import { json, readJson } from '../../../../../../../lib/server/http';
 import { requireAction } from '../../../../../../../lib/server/permissions';
@@ -16,7 +16,7 @@ const patchSchema = z
   .strict();
 
 export const GET: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const { member, controller: c } = await guardController(ctx, 'controller.read');
     const head = await getHeadRevision(dbOf(ctx), c.id);
     return json({
@@ -27,7 +27,7 @@ export const GET: APIRoute = (ctx) =>
   });
 
 export const PATCH: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const { member, controller } = await guardController(ctx, 'controller.edit');
     const body = await readJson(ctx.request, patchSchema);
     if (body.name === undefined && body.archived === undefined) throw fail.badRequest('Nothing to change: send a name or archived.');

@@ -4,8 +4,7 @@
  */
 import type { APIRoute } from 'astro';
 import { z } from 'zod';
-import { dbOf, guardRead, respond } from '../../../../../../../../lib/server/api-v1';
-import { guardController, handle } from '../../../../../../../../lib/server/controller-api';
+import { dbOf, guardController, guardRead, respond } from '../../../../../../../../lib/server/api-v1';
 import { listHistory } from '../../../../../../../../lib/server/history';
 import { json, readJson } from '../../../../../../../../lib/server/http';
 import { createRevision, MAX_UPLOAD_BYTES } from '../../../../../../../../lib/server/revisions';
@@ -25,7 +24,7 @@ export const GET: APIRoute = (ctx) =>
   });
 
 export const POST: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const { member, controller } = await guardController(ctx, 'revision.save');
     const body = await readJson(ctx.request, saveSchema, { maxBytes: MAX_UPLOAD_BYTES * 2 + 64 * 1024 });
     const rev = await createRevision(dbOf(ctx), { controllerId: controller.id, baseNumber: body.base, source: body.source, message: body.message, author: member.userId, workspaceId: member.workspace.id });

@@ -1,12 +1,12 @@
 /** GET: one revision (canonical source, interchange JSON, findings counts). */
 import type { APIRoute } from 'astro';
-import { dbOf, guardController, handle, revisionNumberSchema } from '../../../../../../../../../lib/server/controller-api';
+import { dbOf, guardController, respond, revisionNumberSchema } from '../../../../../../../../../lib/server/api-v1';
 import { fail } from '../../../../../../../../../lib/server/errors';
 import { json } from '../../../../../../../../../lib/server/http';
 import { getRevision } from '../../../../../../../../../lib/server/revisions';
 
 export const GET: APIRoute = (ctx) =>
-  handle(async () => {
+  respond(async () => {
     const { controller } = await guardController(ctx, 'controller.read');
     const n = revisionNumberSchema.safeParse(ctx.params.rev);
     if (!n.success) throw fail.notFound('Revision');
