@@ -1,6 +1,6 @@
 /**
  * The controller workbench in Chromium against the built server: create by upload, edit in the
- * grid and in the source, fix a finding, simulate, reduce, save, download and verify the C
+ * grid and in the source (with its markers and completion), fix a finding, simulate, reduce, save, download and verify the C
  * bundle, and the viewer's read-only view. Screenshots of each view go to test-output/workbench/.
  */
 import { execFileSync } from 'node:child_process';
@@ -111,6 +111,39 @@ describe('controller workbench (Chromium, built server)', () => {
     await page.locator('[data-testid="source-editor"] .view-lines').click();
     await page.keyboard.press('Control+A');
     await page.keyboard.insertText(next);
+    await openView('Table');
+    await expect.poll(() => gridCell('a', '10')).toBe('-');
+  });
+
+  it('marks a bad cell in the source with its message, and completes state names', async () => {
+    await openView('Source');
+    const lines = page.locator('[data-testid="source-editor"] .view-lines');
+    const before = await sourceText();
+    const broken = before.replace(/(\n\s*a\s+c\/-\s+a\/0\s+b\/-\s+)-/, '$1zz/0');
+    expect(broken).not.toBe(before);
+    await lines.click();
+    await page.keyboard.press('Control+A');
+    await page.keyboard.insertText(broken);
+    // The parse issue becomes an error marker; F8 (next problem) opens it with its message.
+    await expect.poll(() => page.locator('[data-testid="source-editor"] .squiggly-error').count(), { timeout: 30_000 }).toBeGreaterThan(0);
+    await page.keyboard.press('Control+Home');
+    await page.keyboard.press('F8');
+    await expect.poll(() => page.locator('.marker-widget').first().innerText().catch(() => ''), { timeout: 15_000 }).toMatch(/unknown state "zz"/);
+    await shot('04b-source-marker');
+    await page.keyboard.press('Escape');
+    // At the start of a new row, completion offers the table's states.
+    await page.keyboard.press('Control+A');
+    await page.keyboard.insertText(before);
+    await page.keyboard.press('Control+End');
+    await page.keyboard.press('Enter');
+    await page.keyboard.type('  ');
+    await page.keyboard.press('Control+Space');
+    const labels = page.locator('.suggest-widget .monaco-list-row .label-name');
+    await expect.poll(async () => (await labels.allInnerTexts()).join(' '), { timeout: 15_000 }).toMatch(/^a b c d e f\b/);
+    await shot('04c-source-completion');
+    await page.keyboard.press('Escape');
+    await page.keyboard.press('Control+A');
+    await page.keyboard.insertText(before);
     await openView('Table');
     await expect.poll(() => gridCell('a', '10')).toBe('-');
   });
