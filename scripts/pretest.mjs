@@ -1,5 +1,5 @@
 // Runs before `vitest run` in `npm test`: makes sure the Debian packages the tests need
-// are installed (installing them when run as root), then builds the app for the e2e tests.
+// are installed (installing them when run as root), checks types, then builds the app for the e2e tests.
 import { execFileSync, spawnSync } from 'node:child_process';
 import { ensureBuilt } from './build-if-needed.mjs';
 
@@ -55,10 +55,19 @@ for (const [cmd, args, fix] of TOOLS) {
   }
 }
 
+// Types of every .ts, .tsx and .astro file (astro check runs the TypeScript checker over all of them).
+const check = spawnSync(process.execPath, ['node_modules/astro/astro.js', 'check'], { stdio: ['ignore', 'pipe', 'pipe'], encoding: 'utf8', env: { ...process.env, ASTRO_TELEMETRY_DISABLED: '1' } });
+if (check.status !== 0) {
+  process.stdout.write(check.stdout);
+  process.stderr.write(check.stderr);
+  console.error('[pretest] `astro check` found type errors (above); fix them first.');
+  process.exit(1);
+}
+
 try {
   await ensureBuilt({ log: (m) => console.log(m.replace('[quiesce]', '[pretest]')) });
 } catch (error) {
   console.error(`[pretest] building the app for the e2e tests failed: ${error.message}`);
   process.exit(1);
 }
-console.log('[pretest] Debian packages present; app build is current.');
+console.log('[pretest] Debian packages present; types check; app build is current.');

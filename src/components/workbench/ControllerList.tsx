@@ -239,7 +239,7 @@ function CreatePanel({ workspace, onClose }: { workspace: string; onClose: () =>
     if (!name) setName(f.name.replace(/\.[^.]+$/, '').replace(/[_]+/g, ' '));
   };
 
-  const submit = (e: React.FormEvent) => {
+  const submit = (e: React.SubmitEvent<HTMLFormElement>) => {
     e.preventDefault();
     setProblem(null);
     if (kind === 'upload' && (!file || issues.length)) {

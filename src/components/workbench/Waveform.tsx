@@ -50,7 +50,7 @@ const Waveform = forwardRef<SVGSVGElement, WaveformProps>(function Waveform({ in
       style={{ fontFamily: 'Fira Code, monospace' }}
     >
       <rect x={0} y={0} width={width} height={height} fill="var(--q-surface, #fff)" />
-      {slots.map((s, i) => (
+      {slots.map((_, i) => (
         <g key={`tick-${i}`}>
           <line x1={x0 + i * SLOT_W} x2={x0 + i * SLOT_W} y1={0} y2={height - 18} stroke="var(--q-line, #ccc)" strokeDasharray="2 3" />
           <text x={x0 + i * SLOT_W + SLOT_W / 2} y={height - 6} textAnchor="middle" fill="var(--q-ink-muted, #555)">

@@ -47,7 +47,7 @@ function formatOverview(): string {
   ].join('\n');
 }
 
-function formatCommandHelp(name: string, cmd: CliCommand): string {
+function formatCommandHelp(cmd: CliCommand): string {
   const opts = Object.entries({ ...cmd.options, help: HELP_OPTION }).map(([key, o]) => {
     const flag = `${o.short ? `-${o.short}, ` : ''}--${key}${o.type === 'string' ? ` ${o.value ?? 'VALUE'}` : ''}`;
     return [flag, o.description] as const;
@@ -110,7 +110,7 @@ async function runCommand(argv: string[], io: CliIo): Promise<number> {
     throw new CliError(`${name}: ${msg}`, `run \`quiesce ${name} --help\``);
   }
   if (parsed.values.help) {
-    io.stdout(formatCommandHelp(name, command));
+    io.stdout(formatCommandHelp(command));
     return 0;
   }
   const { min, max } = command.positionals;

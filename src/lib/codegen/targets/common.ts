@@ -1,8 +1,16 @@
-/** What both targets' contexts share: header lines, the safety caution, policy wording, name lists. */
+/**
+ * What both targets' contexts share: header lines, the safety caution, policy wording, name lists,
+ * masks, data tables and test vectors. A target supplies only its literal syntax (`TargetSyntax`),
+ * its own extra fields and its file list.
+ */
 import { encodedTableBytes } from '../footprint';
 import type { DoubleChangePolicy } from '../../engine/model';
-import type { CompiledMachine } from '../compile';
+import type { CompiledMachine, UIntBits } from '../compile';
+import { finishText, formatRows, hexLiteral, type TableRow } from '../format';
+import type { IdentifierEntry } from '../identifiers';
 import type { CodegenOptions } from '../options';
+import { renderTemplate, type TemplateContext, type TemplateId } from '../registry';
+import type { CaseVector, StepVector } from '../vectors';
 
 /** The safety caution carried by every generated file and README. */
 export const SAFETY_CAUTION =
@@ -40,6 +48,11 @@ export interface HeaderFacts {
   controller: string;
   revision: string;
   sourceHash: string;
+}
+
+/** Header facts of a machine's bundle, for any of its files. */
+export function collectHeaderFacts(m: CompiledMachine, options: CodegenOptions, sourceHash: string): Omit<HeaderFacts, 'file'> {
+  return { generatorVersion: options.generatorVersion, controller: m.name, revision: options.revision, sourceHash };
 }
 
 /** Header lines of one generated file (without comment markers). */
@@ -95,6 +108,36 @@ export function tableBytes(m: CompiledMachine): number {
   return encodedTableBytes(m, m.stateCount * m.columnCount);
 }
 
+/** How one target writes types, literals and table layout; everything else of a context is shared. */
+export interface TargetSyntax {
+  /** The unsigned integer type of a width (`uint8_t`, `u8`). */
+  typeName: (bits: UIntBits) => string;
+  /** Suffix of every integer literal (`u` in C, none in Rust). */
+  suffix: string;
+  /** One test vector entry from its fields (`{ a, b }` in C, `(a, b)` in Rust). */
+  tuple: (fields: string[]) => string;
+  /** Comment style of table rows. */
+  commentStyle: 'c' | 'rust';
+  /** A state's name made fit for its row comment. */
+  rowComment: (name: string) => string;
+  /** Indent of test vector entries (Rust keeps them inside a function body). */
+  vectorIndent: string;
+  /** Power-up vectors per line. */
+  powerUpPerLine: number;
+}
+
+/** A name with its target identifier, index and (for inputs and outputs) bit mask literal. */
+export interface NameContext extends IdentifierEntry {
+  index: number;
+  mask: string;
+}
+
+/** A formatted vector table. */
+export interface VectorTable {
+  count: number;
+  rows: string;
+}
+
 /** Context fields both targets use. */
 export interface CommonContext {
   name: string;
@@ -112,14 +155,60 @@ export interface CommonContext {
   tableBytes: number;
   hasCases: boolean;
   hasScenarios: boolean;
+  types: { state: string; inputs: string; outputs: string; code: string };
+  states: NameContext[];
+  inputs: NameContext[];
+  outputs: NameContext[];
+  reset: NameContext;
+  inputMask: string;
+  outputMask: string;
+  layout: { none: boolean; packed: boolean; split: boolean };
+  tables: { next: string; out: string; outKeep: string; outValue: string };
+  vectors: {
+    powerUp: VectorTable;
+    sequences: { index: number; name: string; count: number; rows: string }[];
+    faults: VectorTable;
+    doubleChanges: VectorTable;
+  };
 }
 
-/** Builds the shared part of a context; `file` names the file the header is for. */
-export function commonContext(m: CompiledMachine, options: CodegenOptions, sourceHash: string, file: string): CommonContext {
+/** Rows of a per-cell table, one row per state with the state's name as a comment. */
+function cellRows(m: CompiledMachine, syntax: TargetSyntax, values: number[], show: (v: number) => string): TableRow[] {
+  const rows: TableRow[] = [];
+  for (let s = 0; s < m.stateCount; s++)
+    rows.push({ comment: syntax.rowComment(m.states[s]!), values: values.slice(s * m.columnCount, (s + 1) * m.columnCount).map(show) });
+  return rows;
+}
+
+/** Literal writers of one machine in one target's syntax. */
+function createLiteralWriters(m: CompiledMachine, syntax: TargetSyntax) {
+  const decimal = (x: number) => `${x}${syntax.suffix}`;
+  const hex = (digits: number) => (x: number) => hexLiteral(x, digits, syntax.suffix);
+  const input = hex(hexDigits(m.inputBits));
+  const output = hex(hexDigits(m.outputBits));
+  return {
+    decimal,
+    hex,
+    step: (v: StepVector) => syntax.tuple([input(v.event), input(v.inputs), decimal(v.state), output(v.outputs), decimal(v.fault)]),
+    case: (v: CaseVector) =>
+      syntax.tuple([decimal(v.from.state), input(v.from.column), output(v.from.outputs), input(v.inputs), decimal(v.expect.state), input(v.expect.column), output(v.expect.outputs), decimal(v.fault)]),
+  };
+}
+
+/** Builds the shared part of a context in a target's syntax; `file` names the file the header is for. */
+export function commonContext(m: CompiledMachine, options: CodegenOptions, sourceHash: string, file: string, syntax: TargetSyntax): CommonContext {
+  const ids = m.identifiers;
+  const lit = createLiteralWriters(m, syntax);
+  const rows = (items: string[], perLine: number) => formatRows([{ values: items }], syntax.vectorIndent, perLine, syntax.commentStyle);
+  const table = (items: string[], perLine: number): VectorTable => ({ count: items.length, rows: rows(items, perLine) });
+  const cells = (values: number[], show: (v: number) => string, perLine: number) => formatRows(cellRows(m, syntax, values, show), '    ', perLine, syntax.commentStyle);
+  const withMask = (entries: IdentifierEntry[], bits: UIntBits): NameContext[] => entries.map((e, index) => ({ ...e, index, mask: lit.hex(hexDigits(bits))(2 ** index) }));
+  const states = ids.states.map((e, index) => ({ ...e, index, mask: '' }));
+  const v = m.vectors;
   return {
     name: m.name,
     description: m.description ?? '',
-    header: headerLines({ file, generatorVersion: options.generatorVersion, controller: m.name, revision: options.revision, sourceHash }),
+    header: headerLines({ ...collectHeaderFacts(m, options, sourceHash), file }),
     caution: SAFETY_CAUTION,
     policy: policyContext(m.policy),
     stateCount: m.stateCount,
@@ -130,7 +219,40 @@ export function commonContext(m: CompiledMachine, options: CodegenOptions, sourc
     inputOrder: m.inputs.join(' '),
     outputOrder: m.outputs.join(' '),
     tableBytes: tableBytes(m),
-    hasCases: m.vectors.faults.length + m.vectors.doubleChanges.length > 0,
-    hasScenarios: m.vectors.scenarios.length > 0,
+    hasCases: v.faults.length + v.doubleChanges.length > 0,
+    hasScenarios: v.scenarios.length > 0,
+    types: { state: syntax.typeName(m.stateBits), inputs: syntax.typeName(m.inputBits), outputs: syntax.typeName(m.outputBits), code: syntax.typeName(m.outCodeBits) },
+    states,
+    inputs: withMask(ids.inputs, m.inputBits),
+    outputs: withMask(ids.outputs, m.outputBits),
+    reset: states[m.reset]!,
+    inputMask: lit.hex(hexDigits(m.inputBits))(lowMask(m.inputCount)),
+    outputMask: lit.hex(hexDigits(m.outputBits))(lowMask(m.outputCount)),
+    layout: { none: m.outputLayout === 'none', packed: m.outputLayout === 'packed', split: m.outputLayout === 'split' },
+    tables: {
+      next: cells(m.next, lit.decimal, 16),
+      out: m.outputLayout === 'packed' ? cells(m.outCode, lit.hex(hexDigits(m.outCodeBits)), 12) : '',
+      outKeep: m.outputLayout === 'split' ? cells(m.outKeep, lit.hex(8), 8) : '',
+      outValue: m.outputLayout === 'split' ? cells(m.outValue, lit.hex(8), 8) : '',
+    },
+    vectors: {
+      powerUp: table(v.powerUp.map(lit.step), syntax.powerUpPerLine),
+      sequences: [...v.tour, ...v.scenarios].map((s, i) => ({ index: i + 1, name: s.name, count: s.steps.length, rows: rows(s.steps.map(lit.step), 4) })),
+      faults: table(v.faults.map(lit.case), 2),
+      doubleChanges: table(v.doubleChanges.map(lit.case), 2),
+    },
   };
+}
+
+/** Renders a target's templates in order, each to its path with its own header, text finished. */
+export function renderTargetFiles<K extends TemplateId>(
+  ids: readonly K[],
+  paths: Record<K, string>,
+  context: TemplateContext<K>,
+  facts: Omit<HeaderFacts, 'file'>,
+): { path: string; content: string }[] {
+  return ids.map((id) => {
+    const path = paths[id];
+    return { path, content: finishText(renderTemplate(id, { ...context, header: headerLines({ ...facts, file: path }) })) };
+  });
 }

@@ -717,6 +717,3 @@ export function tableToText(t: FlowTable): string {
   return `${out.join('\n')}\n`;
 }
 
-function compareStrings(a: string, b: string): number {
-  return a < b ? -1 : a > b ? 1 : 0;
-}
