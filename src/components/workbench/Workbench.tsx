@@ -567,7 +567,7 @@ function ConflictScreen(props: {
       const baseT = baseSource ? parseText(baseSource) : createTable({ name: mine.name, inputs: mine.inputs, outputs: mine.outputs, states: [] as string[] });
       return reapplyEdits(baseT, mine, parseText(headSource));
     } catch (e) {
-      return { table: null, applied: 0, conflicts: [], blocked: e instanceof Error ? e.message : String(e) } as ReapplyResult;
+      return { table: null, applied: 0, conflicts: [], notes: [], blocked: e instanceof Error ? e.message : String(e) } satisfies ReapplyResult;
     }
   }, [headSource, baseSource, mine]);
   return (
@@ -606,6 +606,13 @@ function ConflictScreen(props: {
         <p className="text-sm text-ink-muted">
           Reapplying carries {merge.applied} change{merge.applied === 1 ? '' : 's'} over{merge.conflicts.length ? `; ${merge.conflicts.length} cell${merge.conflicts.length === 1 ? ' was' : 's were'} changed on both sides (yours would win):` : '.'}
         </p>
+      )}
+      {merge && merge.notes.length > 0 && (
+        <ul className="text-sm text-caution list-disc pl-5" data-testid="conflict-notes">
+          {merge.notes.map((n) => (
+            <li key={n}>{n}</li>
+          ))}
+        </ul>
       )}
       {merge && merge.conflicts.length > 0 && (
         <table className="q-table font-mono text-sm">

@@ -1,0 +1,114 @@
+import { describe, expect, it } from 'vitest';
+import { reapplyEdits } from '../../../src/lib/client/reapply';
+import { applyEdit, type TableEdit } from '../../../src/lib/client/table-edits';
+import { parseText } from '../../../src/lib/engine/formats/text';
+import { cellToText, countColumns, keyToColumn, type FlowTable } from '../../../src/lib/engine/model';
+
+// Invented example (door interlock), as in tests/fixtures/formats/door-interlock.qfl.
+const DOOR = `flow door_interlock
+inputs door_closed key
+outputs unlock
+reset idle
+
+grid     00       01       11       10
+  idle   idle/0   armed/0  -        idle/0
+  armed  idle/0   armed/0  open/-   -
+  open   -        armed/0  open/1   idle/0
+`;
+
+const base = parseText(DOOR);
+const cell = (t: FlowTable, state: string, key: string) => cellToText(t, t.states.indexOf(state) * countColumns(t.inputs.length) + keyToColumn(key));
+const edit = (t: FlowTable, ...edits: TableEdit[]) => edits.reduce((acc, e) => applyEdit(acc, e), t);
+const setCell = (t: FlowTable, state: string, key: string, next: string, bits: string | null): TableEdit => ({
+  kind: 'set-cell',
+  state: t.states.indexOf(state),
+  column: keyToColumn(key),
+  next: t.states.indexOf(next),
+  bits,
+});
+
+describe('reapplyEdits', () => {
+  it('carries cells over, keeps the head’s own, and lists cells both sides changed differently (mine wins)', () => {
+    const mine = edit(base, setCell(base, 'idle', '11', 'open', '-'), setCell(base, 'armed', '10', 'idle', '0'), setCell(base, 'open', '00', 'idle', '0'));
+    const theirs = edit(base, setCell(base, 'armed', '10', 'armed', '0'), setCell(base, 'open', '00', 'idle', '0'), setCell(base, 'open', '10', 'open', '1'));
+    const r = reapplyEdits(base, mine, theirs);
+    expect(r.blocked).toBeNull();
+    const t = r.table!;
+    expect(cell(t, 'idle', '11')).toBe('open/-'); // mine only
+    expect(cell(t, 'open', '10')).toBe('open/1'); // theirs only
+    expect(cell(t, 'open', '00')).toBe('idle/0'); // both, alike: no conflict
+    expect(cell(t, 'armed', '10')).toBe('idle/0'); // both, differently: mine wins, listed
+    expect(r.conflicts).toEqual([{ state: 'armed', inputs: '10', base: '-', mine: 'idle/0', theirs: 'armed/0' }]);
+    expect(r.notes).toEqual([]);
+  });
+
+  it('carries a state rename over to the head, with the head’s edits of that row and of cells that lead to it', () => {
+    const mine = edit(base, { kind: 'rename-state', index: 1, name: 'ready' });
+    const theirs = edit(base, setCell(base, 'armed', '10', 'idle', '0'), setCell(base, 'idle', '11', 'armed', '0'));
+    const r = reapplyEdits(base, mine, theirs);
+    const t = r.table!;
+    expect(t.states).toEqual(['idle', 'ready', 'open']);
+    expect(cell(t, 'ready', '10')).toBe('idle/0');
+    expect(cell(t, 'idle', '11')).toBe('ready/0');
+    expect(cell(t, 'open', '01')).toBe('ready/0');
+    expect(r.conflicts).toEqual([]);
+    expect(r.applied).toBe(1);
+  });
+
+  it('carries input and output renames over, so the cells still match one by one', () => {
+    const mine = edit(base, { kind: 'rename-input', index: 1, name: 'badge' }, { kind: 'rename-output', index: 0, name: 'release' }, setCell(base, 'idle', '11', 'open', '1'));
+    const theirs = edit(base, setCell(base, 'armed', '10', 'armed', '0'));
+    const r = reapplyEdits(base, mine, theirs);
+    expect(r.blocked).toBeNull();
+    const t = r.table!;
+    expect(t.inputs).toEqual(['door_closed', 'badge']);
+    expect(t.outputs).toEqual(['release']);
+    expect(cell(t, 'idle', '11')).toBe('open/1');
+    expect(cell(t, 'armed', '10')).toBe('armed/0');
+  });
+
+  it('deletes a state the user deleted when the head left its row alone, and keeps it (with a note) when the head changed it', () => {
+    const mine = edit(base, { kind: 'delete-state', index: 2 });
+    expect(cell(mine, 'armed', '11')).toBe('-'); // deleting clears the cells that led there
+
+    const untouched = reapplyEdits(base, mine, edit(base, setCell(base, 'idle', '10', 'armed', '0')));
+    expect(untouched.table!.states).toEqual(['idle', 'armed']);
+    expect(cell(untouched.table!, 'armed', '11')).toBe('-');
+    expect(cell(untouched.table!, 'idle', '10')).toBe('armed/0');
+    expect(untouched.notes).toEqual([]);
+
+    const changed = reapplyEdits(base, mine, edit(base, setCell(base, 'open', '00', 'idle', '0')));
+    expect(changed.table!.states).toEqual(['idle', 'armed', 'open']);
+    expect(cell(changed.table!, 'open', '00')).toBe('idle/0');
+    expect(changed.notes).toEqual(['Your deletion of state open was not carried over: the newer revision changed its row.']);
+  });
+
+  it('adds the user’s new states and carries a changed reset state', () => {
+    const withHeld = edit(base, { kind: 'add-state', name: 'held' });
+    const mine = edit(withHeld, setCell(withHeld, 'held', '11', 'held', '1'), setCell(withHeld, 'open', '01', 'held', '1'), { kind: 'set-reset', index: 1 });
+    const r = reapplyEdits(base, mine, edit(base, setCell(base, 'idle', '10', 'armed', '0')));
+    const t = r.table!;
+    expect(t.states).toEqual(['idle', 'armed', 'open', 'held']);
+    expect(t.states[t.reset]).toBe('armed');
+    expect(cell(t, 'held', '11')).toBe('held/1');
+    expect(cell(t, 'open', '01')).toBe('held/1');
+    expect(cell(t, 'idle', '10')).toBe('armed/0');
+  });
+
+  it('notes a rename it cannot carry because the head renamed or removed that state itself', () => {
+    const mine = edit(base, { kind: 'rename-state', index: 1, name: 'ready' });
+    const theirs = edit(base, { kind: 'rename-state', index: 1, name: 'primed' });
+    const r = reapplyEdits(base, mine, theirs);
+    expect(r.table!.states).toEqual(['idle', 'primed', 'open']);
+    expect(r.notes[0]).toBe('Your rename of state armed to ready was not carried over: the newer revision no longer has armed.');
+  });
+
+  it('refuses a cell-by-cell merge when inputs or outputs were added or deleted, and says which', () => {
+    const mine = edit(base, { kind: 'add-input', name: 'estop' });
+    const r = reapplyEdits(base, mine, base);
+    expect(r.table).toBeNull();
+    expect(r.blocked).toBe('you added input estop, so cells cannot be matched one by one.');
+    const theirs = edit(base, { kind: 'add-output', name: 'lamp' });
+    expect(reapplyEdits(base, base, theirs).blocked).toBe('the newer revision added output lamp, so cells cannot be matched one by one.');
+  });
+});
