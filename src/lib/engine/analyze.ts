@@ -4,12 +4,16 @@
  *
  * Cost: one linear settling pass (reachability.ts), one pass over the reachable stable total states
  * times the inputs (SIC checks are O(1) each from the per-cell summaries), and one pass times the
- * input pairs for double changes. Strings are only built for listed findings.
+ * input pairs for double changes. Strings are only built for listed findings, and listed findings
+ * share what they can (see createPathMaker): one step object per cell and role, one traced path per
+ * single-input change. That keeps a findings-heavy table cheap both to analyze and to post from the
+ * workbench's worker (structured cloning writes a shared object once).
  */
 import { cellBits, columnToKey, countColumns, NONE, type CellRef, type FlowTable } from './model';
 import { SETTLE_OK, SETTLE_OSCILLATION, SETTLE_UNSPECIFIED } from './settle';
 import {
   FINDINGS_PER_CODE,
+  PATH_STEP_KINDS,
   SEVERITY_OF,
   rankCode,
   type Finding,
@@ -46,7 +50,10 @@ export interface Analysis {
   reachableStable: CellRef[];
   /** One entry per column, in grid order. */
   powerUp: PowerUpResult[];
-  /** Sorted by severity, then code, then place (state order, grid column order, input order). */
+  /**
+   * Sorted by severity, then code, then place (state order, grid column order, input order). Paths
+   * share step objects and arrays (within this analysis): treat them as read-only.
+   */
   findings: Finding[];
   /** Problems per severity, including those past the per-code cap; `findings-truncated` notes are not counted. */
   counts: Record<Severity, number>;
@@ -71,60 +78,92 @@ export interface SettleTrace {
 /** Traces settle paths of one table; see traceSettle. */
 export type SettleTracer = (state: number, column: number, start?: { state: number; column: number }) => SettleTrace;
 
-/**
- * A tracer for many paths of one table: it reuses its visit marks and caches column keys and cell
- * output strings, so listing hundreds of findings stays cheap.
- */
-export function createTracer(t: FlowTable): SettleTracer {
+// roles of a path step, as indices into PATH_STEP_KINDS
+const K_START = 0;
+const K_TRANSIENT = 1;
+const K_STABLE = 2;
+const K_UNSPECIFIED = 3;
+const K_REPEAT = 4;
+const KIND_NAMES: readonly PathStep['kind'][] = PATH_STEP_KINDS;
+
+/** A tracer plus its step maker: one step object per cell and role, shared by every path that passes there. */
+interface PathMaker {
+  trace: SettleTracer;
+  /** The step of cell (s, c) in role `kind` (an index into PATH_STEP_KINDS). */
+  step(s: number, c: number, kind: number): PathStep;
+}
+
+/** Builds the tracer of createTracer; `columnKeys` (every column's key) saves building them again. */
+function createPathMaker(t: FlowTable, columnKeys?: string[]): PathMaker {
   const n = t.inputs.length;
   const cols = countColumns(n);
-  const keys = new Map<number, string>();
-  const bits = new Map<number, string>();
-  const stamp = new Int32Array(t.states.length);
-  const pos = new Int32Array(t.states.length);
+  const ns = t.states.length;
+  const names = t.states;
+  const next = t.next;
+  const keys: string[] = columnKeys ?? new Array<string>(cols);
+  const made = new Map<number, PathStep>();
+  const stamp = new Int32Array(ns);
+  const pos = new Int32Array(ns);
+  const order = new Int32Array(ns);
   let generation = 0;
-  const keyOf = (c: number): string => {
-    let k = keys.get(c);
-    if (k === undefined) keys.set(c, (k = columnToKey(c, n)));
-    return k;
+  const step = (s: number, c: number, kind: number): PathStep => {
+    const cell = s * cols + c;
+    const id = cell * 5 + kind;
+    let p = made.get(id);
+    if (p === undefined) {
+      const key = keys[c] ?? (keys[c] = columnToKey(c, n));
+      p = { state: names[s]!, inputs: key, kind: KIND_NAMES[kind]!, outputs: cellBits(t, cell) };
+      made.set(id, p);
+    }
+    return p;
   };
-  const bitsOf = (cell: number): string => {
-    let b = bits.get(cell);
-    if (b === undefined) bits.set(cell, (b = cellBits(t, cell)));
-    return b;
-  };
-  const step = (s: number, c: number, kind: PathStep['kind']): PathStep => ({ state: t.states[s]!, inputs: keyOf(c), kind, outputs: bitsOf(s * cols + c) });
-  return (state, column, start) => {
+  const trace: SettleTracer = (state, column, start) => {
     if (++generation === 0x7fffffff) {
       stamp.fill(0);
       generation = 1;
     }
     const steps: PathStep[] = [];
-    const withStart = start !== undefined;
-    if (start) steps.push(step(start.state, start.column, 'start'));
-    const order: number[] = [];
+    let role = K_START;
+    if (start) {
+      steps.push(step(start.state, start.column, K_START));
+      role = K_TRANSIENT;
+    }
+    let len = 0;
     let s = state;
     for (;;) {
-      const nx = t.next[s * cols + column]!;
+      const nx = next[s * cols + column]!;
       stamp[s] = generation;
-      pos[s] = order.length;
-      order.push(s);
+      pos[s] = len;
+      order[len++] = s;
       if (nx === L_NONE) {
-        steps.push(step(s, column, 'unspecified'));
+        steps.push(step(s, column, K_UNSPECIFIED));
         return { steps, end: 'unspecified', state: s };
       }
       if (nx === s) {
-        steps.push(step(s, column, 'stable'));
+        steps.push(step(s, column, K_STABLE));
         return { steps, end: 'stable', state: s };
       }
-      steps.push(step(s, column, !withStart && steps.length === 0 ? 'start' : 'transient'));
+      steps.push(step(s, column, role));
+      role = K_TRANSIENT;
       if (stamp[nx] === generation) {
-        steps.push(step(nx, column, 'repeat'));
-        return { steps, end: 'oscillation', state: nx, cycle: order.slice(pos[nx]) };
+        steps.push(step(nx, column, K_REPEAT));
+        const cycle: number[] = [];
+        for (let i = pos[nx]!; i < len; i++) cycle.push(order[i]!);
+        return { steps, end: 'oscillation', state: nx, cycle };
       }
       s = nx;
     }
   };
+  return { trace, step };
+}
+
+/**
+ * A tracer for many paths of one table: it reuses its visit marks, caches column keys and makes
+ * one step object per cell and role, so listing hundreds of findings stays cheap. Paths it returns
+ * share step objects: treat them as read-only.
+ */
+export function createTracer(t: FlowTable): SettleTracer {
+  return createPathMaker(t).trace;
 }
 
 /**
@@ -142,26 +181,32 @@ function listNames(names: string[]): string {
   return `${names.slice(0, -1).join(', ')} and ${names[names.length - 1]}`;
 }
 
-/** Collects findings of one code in generation order, listing the first `limit` and counting the rest. */
+/** Findings of one code in generation order: the listed ones and how many there are in all. */
 class CodeList {
   readonly listed: Finding[] = [];
   total = 0;
-  constructor(
-    readonly code: FindingCode,
-    readonly limit: number,
-  ) {}
-  /** True when the next finding will be listed (so the caller builds it). */
-  get open(): boolean {
-    return this.total < this.limit;
+  readonly severity: Severity;
+  constructor(readonly code: FindingCode) {
+    this.severity = SEVERITY_OF[code];
   }
-  add(build: () => Omit<Finding, 'code' | 'severity'>): void {
-    if (this.total < this.limit) this.listed.push({ code: this.code, severity: SEVERITY_OF[this.code], ...build() });
-    this.total++;
-  }
-  /** Counts one finding past the cap without building it. */
-  skip(): void {
-    this.total++;
-  }
+}
+
+/** What the finding builders share within one analysis. */
+interface Context {
+  t: FlowTable;
+  n: number;
+  cols: number;
+  names: string[];
+  /** Column keys by column index. */
+  keys: string[];
+  paths: PathMaker;
+  /** Settle path of the single-input change of input k from stable cell x (one trace per change). */
+  traceChange(x: number, k: number): SettleTrace;
+  /** Settle path from cell (s, c) without a start cell (one trace per cell). */
+  traceFrom(s: number, c: number): SettleTrace;
+  /** Per-state visit marks of listValuesAlong, and their generation. */
+  seen: Int32Array;
+  seenGeneration: number;
 }
 
 /** Analyzes a table: stable and reachable total states, power-up, and sorted findings. */
@@ -170,6 +215,46 @@ export function analyzeTable(t: FlowTable, options: AnalyzeOptions = {}): Analys
   const cells = settleCells(t);
   const reach = computeReach(t, cells);
   return buildAnalysis(t, reach, limit);
+}
+
+/** The builders' context, with its trace caches; `keys` holds every column's key. */
+function createContext(t: FlowTable, keys: string[]): Context {
+  const n = t.inputs.length;
+  const cols = countColumns(n);
+  const paths = createPathMaker(t, keys);
+  const trace = paths.trace;
+  const changes = new Map<number, SettleTrace>();
+  const froms = new Map<number, SettleTrace>();
+  return {
+    t,
+    n,
+    cols,
+    names: t.states,
+    keys,
+    paths,
+    traceChange: (x, k) => {
+      const id = x * n + k;
+      let tr = changes.get(id);
+      if (tr === undefined) {
+        const s = x >> n;
+        const c = x & (cols - 1);
+        tr = trace(s, c ^ (1 << k), { state: s, column: c });
+        changes.set(id, tr);
+      }
+      return tr;
+    },
+    traceFrom: (s, c) => {
+      const id = s * cols + c;
+      let tr = froms.get(id);
+      if (tr === undefined) {
+        tr = trace(s, c);
+        froms.set(id, tr);
+      }
+      return tr;
+    },
+    seen: new Int32Array(t.states.length),
+    seenGeneration: 0,
+  };
 }
 
 function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
@@ -186,14 +271,14 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
   for (let c = 0; c < cols; c++) keys.push(columnToKey(c, n));
   const gray = listGrayColumns(n);
   const rank = rankGrayColumns(n);
-  const lists = new Map<FindingCode, CodeList>();
+  const cx = createContext(t, keys);
+  const lists: CodeList[] = [];
   const list = (code: FindingCode): CodeList => {
-    let l = lists.get(code);
-    if (!l) lists.set(code, (l = new CodeList(code, limit)));
+    const l = new CodeList(code);
+    lists.push(l);
     return l;
   };
   const where = (s: number, c: number): string => `(${names[s]}, ${keys[c]})`;
-  const trace = createTracer(t);
 
   // stable total states, and rows without one
   const stable: CellRef[] = [];
@@ -214,7 +299,9 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
         ordered.push(base + c);
       }
     }
-    if (!any) noStable.add(() => ({ state: names[s]!, message: `Row ${names[s]} has no stable cell.`, path: [] }));
+    if (!any && noStable.total++ < limit) {
+      noStable.listed.push({ code: noStable.code, severity: noStable.severity, state: names[s]!, message: `Row ${names[s]} has no stable cell.`, path: [] });
+    }
   }
 
   // first source of each failure place: >= 0 is an SIC (stable cell * n + bit), <= -2 a power-up column
@@ -237,20 +324,22 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
   for (let g = 0; g < cols; g++) {
     const c = gray[g]!;
     const cell = t.reset * cols + c;
-    const tr = trace(t.reset, c);
+    const tr = cx.traceFrom(t.reset, c);
     const f = fault[cell]!;
     powerUp.push({ inputs: keys[c]!, result: tr.end, state: f === L_SETTLE_OK ? names[term[cell]! >> n]! : null, path: tr.steps });
     if (f === L_SETTLE_OK) continue;
     if (f === L_SETTLE_OSCILLATION) noteFailure(cell, -2 - c);
-    else {
+    else if (powerUpUnspec.total++ < limit) {
       const u = term[cell]! >> n;
-      powerUpUnspec.add(() => ({
+      powerUpUnspec.listed.push({
+        code: powerUpUnspec.code,
+        severity: powerUpUnspec.severity,
         inputs: keys[c]!,
         state: names[u]!,
         message: `Power-up with inputs ${keys[c]} reaches the unspecified cell ${where(u, c)}.`,
         path: tr.steps,
         fix: suggestCell(t, u, c, keys[c]!),
-      }));
+      });
     }
   }
 
@@ -280,26 +369,25 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
       const fv = firstValue[e]!;
       const onceE = once[e]!;
       const g = (twice[e]! | (care0 & fc & (val0 ^ fv) & onceE)) >>> 0;
-      if (g !== 0) {
-        for (let o = 0; o < m; o++) if ((g >>> o) & 1) glitches.open ? glitches.add(() => describeGlitch(t, trace, s, c, k, o)) : glitches.skip();
+      // set bits lowest first, that is output order
+      for (let r = g | 0; r !== 0; r &= r - 1) {
+        if (glitches.total++ < limit) glitches.listed.push(describeGlitch(cx, glitches, x, k, 31 - Math.clz32(r & -r)));
       }
       // same rule as computeEntryRisk, inlined
       const entry = next[e] !== s ? ~outCare[e]! & fc & (~care0 | ~(val0 ^ fv)) : 0;
-      const h = ((risk[e]! | entry) & ~g) >>> 0;
-      if (h !== 0) {
-        for (let o = 0; o < m; o++) if ((h >>> o) & 1) hazards.open ? hazards.add(() => describeHazard(t, trace, s, c, k, o)) : hazards.skip();
+      const h = (risk[e]! | entry) & ~g;
+      for (let r = h | 0; r !== 0; r &= r - 1) {
+        if (hazards.total++ < limit) hazards.listed.push(describeHazard(cx, hazards, x, k, 31 - Math.clz32(r & -r)));
       }
     }
     for (let a = 0; a < n; a++) {
+      const va = via[a]!;
       for (let b = a + 1; b < n; b++) {
         const target = c ^ (1 << a) ^ (1 << b);
-        const va = via[a]!;
         const vb = via[b]!;
-        const direct = base + target;
-        const sd = settled[direct]!;
+        const sd = settled[base + target]!;
         if (sd !== L_NONE && va !== L_NONE && vb !== L_NONE && settled[(va << n) | target] === sd && settled[(vb << n) | target] === sd) continue;
-        if (doubles.open) doubles.add(() => describeDoubleChange(t, trace, s, c, a, b));
-        else doubles.skip();
+        if (doubles.total++ < limit) doubles.listed.push(describeDoubleChange(cx, doubles, x, a, b));
       }
     }
   }
@@ -310,24 +398,24 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
   for (const u of unspecCells) {
     const src = source[u]!;
     if (src < 0) continue;
-    unspec.add(() => {
-      const us = u >> n;
-      const uc = u & (cols - 1);
-      const x = Math.floor(src / Math.max(n, 1));
-      const k = src - x * n;
-      const s = x >> n;
-      const c = x & (cols - 1);
-      const tr = trace(s, c ^ (1 << k), { state: s, column: c });
-      const others = hits[u]! - 1;
-      return {
-        state: names[us]!,
-        inputs: keys[uc]!,
-        message:
-          `From stable ${where(s, c)}, changing ${t.inputs[k]} reaches the unspecified cell ${where(us, uc)}` +
-          (others > 0 ? `, as ${others === 1 ? 'does 1 other single-input change' : `do ${others} other single-input changes`}.` : '.'),
-        path: tr.steps,
-        fix: suggestCell(t, us, uc, keys[uc]!),
-      };
+    if (unspec.total++ >= limit) continue;
+    const us = u >> n;
+    const uc = u & (cols - 1);
+    const x = Math.floor(src / Math.max(n, 1));
+    const k = src - x * n;
+    const s = x >> n;
+    const c = x & (cols - 1);
+    const others = hits[u]! - 1;
+    unspec.listed.push({
+      code: unspec.code,
+      severity: unspec.severity,
+      state: names[us]!,
+      inputs: keys[uc]!,
+      message:
+        `From stable ${where(s, c)}, changing ${t.inputs[k]} reaches the unspecified cell ${where(us, uc)}` +
+        (others > 0 ? `, as ${others === 1 ? 'does 1 other single-input change' : `do ${others} other single-input changes`}.` : '.'),
+      path: cx.traceChange(x, k).steps,
+      fix: suggestCell(t, us, uc, keys[uc]!),
     });
   }
 
@@ -335,41 +423,44 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
   const osc = list('oscillation');
   oscCells.sort((p, q) => rank[p & (cols - 1)]! - rank[q & (cols - 1)]! || (p >> n) - (q >> n));
   for (const rep of oscCells) {
-    osc.add(() => {
-      const src = source[rep]!;
-      const c2 = rep & (cols - 1);
-      let tr: SettleTrace;
-      let how: string;
-      if (src <= -2) {
-        tr = trace(t.reset, c2);
-        how = 'at power-up';
-      } else {
-        const x = Math.floor(src / Math.max(n, 1));
-        const k = src - x * n;
-        const s = x >> n;
-        const c = x & (cols - 1);
-        tr = trace(s, c2, { state: s, column: c });
-        how = `from stable ${where(s, c)} by changing ${t.inputs[k]}`;
-      }
-      const cycle = (tr.cycle ?? []).map((s) => names[s]!).sort();
-      return {
-        inputs: keys[c2]!,
-        cycle,
-        message: `Settling in column ${keys[c2]} loops through ${listNames(cycle)}, reached ${how}.`,
-        path: tr.steps,
-      };
+    if (osc.total++ >= limit) continue;
+    const src = source[rep]!;
+    const c2 = rep & (cols - 1);
+    let tr: SettleTrace;
+    let how: string;
+    if (src <= -2) {
+      tr = cx.traceFrom(t.reset, c2);
+      how = 'at power-up';
+    } else {
+      const x = Math.floor(src / Math.max(n, 1));
+      const k = src - x * n;
+      // the representative lies in the column the change settles in
+      tr = cx.traceChange(x, k);
+      how = `from stable ${where(x >> n, x & (cols - 1))} by changing ${t.inputs[k]}`;
+    }
+    const cycle = (tr.cycle ?? []).map((s) => names[s]!).sort();
+    osc.listed.push({
+      code: osc.code,
+      severity: osc.severity,
+      inputs: keys[c2]!,
+      cycle,
+      message: `Settling in column ${keys[c2]} loops through ${listNames(cycle)}, reached ${how}.`,
+      path: tr.steps,
     });
   }
 
   const unreachable = list('unreachable-state');
   for (let s = 0; s < ns; s++) {
     if (reach.reachableState[s]) continue;
-    unreachable.add(() => ({
+    if (unreachable.total++ >= limit) continue;
+    unreachable.listed.push({
+      code: unreachable.code,
+      severity: unreachable.severity,
       state: names[s]!,
       message: `State ${names[s]} is never reached from power-up or by a single-input change.`,
       path: [],
       fix: { action: 'remove-state', label: `Remove state ${names[s]}`, state: names[s]! },
-    }));
+    });
   }
 
   const reachable: string[] = [];
@@ -377,20 +468,19 @@ function buildAnalysis(t: FlowTable, reach: Reach, limit: number): Analysis {
 
   const counts: Record<Severity, number> = { error: 0, warning: 0, info: 0 };
   const findings: Finding[] = [];
-  const codes = [...lists.keys()].sort((p, q) => rankCode(p) - rankCode(q));
-  for (const code of codes) {
-    const l = lists.get(code)!;
-    counts[SEVERITY_OF[code]] += l.total;
-    findings.push(...l.listed);
+  lists.sort((p, q) => rankCode(p.code) - rankCode(q.code));
+  for (const l of lists) {
+    counts[l.severity] += l.total;
+    for (const f of l.listed) findings.push(f);
     if (l.total > l.listed.length) {
       const omitted = l.total - l.listed.length;
       findings.push({
         code: 'findings-truncated',
         // the note takes the severity of the list it closes, so the whole list stays sorted by severity
-        severity: SEVERITY_OF[code],
-        of: code,
+        severity: l.severity,
+        of: l.code,
         omitted,
-        message: `${omitted} more ${code} finding${omitted === 1 ? ' is' : 's are'} not listed.`,
+        message: `${omitted} more ${l.code} finding${omitted === 1 ? ' is' : 's are'} not listed.`,
         path: [],
       });
     }
@@ -422,47 +512,60 @@ function suggestCell(t: FlowTable, state: number, column: number, key: string): 
   };
 }
 
-/** Specified values of output `o` along an SIC path (start cell, then the settle path), don't-cares dropped. */
-function listValuesAlong(t: FlowTable, s: number, c: number, c2: number, o: number): { values: number[]; cells: number[]; end: number } {
-  const cols = countColumns(t.inputs.length);
+/**
+ * Specified values of output `o` along the single-input change of input k from stable cell x (start
+ * cell, then the settle path), don't-cares dropped; the cells of the settle path; and its last state.
+ */
+function listValuesAlong(cx: Context, x: number, k: number, o: number): { values: number[]; cells: number[]; end: number } {
+  const { t, n, cols, seen } = cx;
+  const outCare = t.outCare;
+  const outValue = t.outValue;
+  const next = t.next;
+  const c2 = (x & (cols - 1)) ^ (1 << k);
+  if (++cx.seenGeneration === 0x7fffffff) {
+    seen.fill(0);
+    cx.seenGeneration = 1;
+  }
+  const generation = cx.seenGeneration;
   const values: number[] = [];
   const cells: number[] = [];
-  const start = s * cols + c;
-  if ((t.outCare[start]! >>> o) & 1) values.push((t.outValue[start]! >>> o) & 1);
-  let x = s;
-  const seen = new Set<number>();
+  if ((outCare[x]! >>> o) & 1) values.push((outValue[x]! >>> o) & 1);
+  let s = x >> n;
   for (;;) {
-    const cell = x * cols + c2;
+    const cell = s * cols + c2;
     cells.push(cell);
-    if ((t.outCare[cell]! >>> o) & 1) values.push((t.outValue[cell]! >>> o) & 1);
-    const nx = t.next[cell]!;
-    if (nx === x || nx === L_NONE || seen.has(nx)) return { values, cells, end: x };
-    seen.add(x);
-    x = nx;
+    if ((outCare[cell]! >>> o) & 1) values.push((outValue[cell]! >>> o) & 1);
+    const nx = next[cell]!;
+    seen[s] = generation;
+    if (nx === L_NONE || seen[nx] === generation) return { values, cells, end: s };
+    s = nx;
   }
 }
 
-function describeGlitch(t: FlowTable, trace: SettleTracer, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
-  const n = t.inputs.length;
+function describeGlitch(cx: Context, l: CodeList, x: number, k: number, o: number): Finding {
+  const { t, n, cols, names, keys } = cx;
+  const s = x >> n;
+  const c = x & (cols - 1);
   const c2 = c ^ (1 << k);
-  const { values, end } = listValuesAlong(t, s, c, c2, o);
-  const tr = trace(s, c2, { state: s, column: c });
+  const { values, end } = listValuesAlong(cx, x, k, o);
   return {
-    state: t.states[s]!,
-    from: columnToKey(c, n),
-    inputs: columnToKey(c2, n),
+    code: l.code,
+    severity: l.severity,
+    state: names[s]!,
+    from: keys[c]!,
+    inputs: keys[c2]!,
     output: t.outputs[o]!,
-    message: `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[k]} makes ${t.outputs[o]} go ${values.join(', ')} before it settles in (${t.states[end]}, ${columnToKey(c2, n)}).`,
-    path: tr.steps,
+    message: `From stable (${names[s]}, ${keys[c]}), changing ${t.inputs[k]} makes ${t.outputs[o]} go ${values.join(', ')} before it settles in (${names[end]}, ${keys[c2]}).`,
+    path: cx.traceChange(x, k).steps,
   };
 }
 
-function describeHazard(t: FlowTable, trace: SettleTracer, s: number, c: number, k: number, o: number): Omit<Finding, 'code' | 'severity'> {
-  const n = t.inputs.length;
-  const cols = countColumns(n);
-  const c2 = c ^ (1 << k);
-  const key2 = columnToKey(c2, n);
-  const { cells } = listValuesAlong(t, s, c, c2, o);
+function describeHazard(cx: Context, l: CodeList, x: number, k: number, o: number): Finding {
+  const { t, n, cols, names, keys } = cx;
+  const s = x >> n;
+  const c = x & (cols - 1);
+  const key2 = keys[c ^ (1 << k)]!;
+  const { cells } = listValuesAlong(cx, x, k, o);
   // replay the risk rule along the path to name the open cells and the values fill would give them
   const filled: number[] = [];
   let after = -1;
@@ -471,58 +574,62 @@ function describeHazard(t: FlowTable, trace: SettleTracer, s: number, c: number,
     if ((t.outCare[cell]! >>> o) & 1) after = (t.outValue[cell]! >>> o) & 1;
     filled[i] = after;
   }
-  const start = s * cols + c;
-  let before = (t.outCare[start]! >>> o) & 1 ? (t.outValue[start]! >>> o) & 1 : -1;
+  let before = (t.outCare[x]! >>> o) & 1 ? (t.outValue[x]! >>> o) & 1 : -1;
   const places: string[] = [];
   const values: number[] = [];
   for (let i = 0; i < cells.length - 1; i++) {
     const cell = cells[i]!;
     const open = !((t.outCare[cell]! >>> o) & 1);
     if (open && filled[i]! >= 0 && (before === -1 || before === filled[i])) {
-      places.push(`(${t.states[(cell / cols) | 0]}, ${key2})`);
+      places.push(`(${names[(cell / cols) | 0]}, ${key2})`);
       values.push(filled[i]!);
     }
     before = filled[i]!;
   }
   const one = places.length === 1;
   const sameValue = values.every((v) => v === values[0]);
-  const tr = trace(s, c2, { state: s, column: c });
   return {
-    state: t.states[s]!,
-    from: columnToKey(c, n),
+    code: l.code,
+    severity: l.severity,
+    state: names[s]!,
+    from: keys[c]!,
     inputs: key2,
     output: t.outputs[o]!,
     message:
-      `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[k]} passes ${listNames(places)}, where ${t.outputs[o]} is a don't-care that could add a change; ` +
+      `From stable (${names[s]}, ${keys[c]}), changing ${t.inputs[k]} passes ${listNames(places)}, where ${t.outputs[o]} is a don't-care that could add a change; ` +
       `output fill would set ${one ? 'it' : 'them'} to ${sameValue ? values[0] : listNames(values.map(String))}.`,
-    path: tr.steps,
+    path: cx.traceChange(x, k).steps,
     fix: { action: 'fill-outputs', label: 'Fill don\'t-care outputs in transient cells' },
   };
 }
 
-function describeDoubleChange(t: FlowTable, trace: SettleTracer, s: number, c: number, a: number, b: number): Omit<Finding, 'code' | 'severity'> {
-  const n = t.inputs.length;
+function describeDoubleChange(cx: Context, l: CodeList, x: number, a: number, b: number): Finding {
+  const { t, n, cols, names, keys, paths } = cx;
+  const s = x >> n;
+  const c = x & (cols - 1);
   const target = c ^ (1 << a) ^ (1 << b);
-  const start = { state: s, column: c };
   const ordered = (first: number, second: number): Outcome => {
-    const mid = c ^ (1 << first);
-    const one = trace(s, mid, start);
+    const one = cx.traceChange(x, first);
     const label = `${t.inputs[first]} then ${t.inputs[second]}`;
     if (one.end !== 'stable') return { label, state: null, path: one.steps };
-    const two = trace(one.state, target);
-    const steps = [...one.steps, ...two.steps.map((p) => (p.kind === 'start' ? { ...p, kind: 'transient' as const } : p))];
-    return { label, state: two.end === 'stable' ? t.states[two.state]! : null, path: steps };
+    const two = cx.traceFrom(one.state, target);
+    const path = one.steps.slice();
+    // the second settle path continues the event: its first cell is transient, not a start
+    for (const p of two.steps) path.push(p.kind === 'start' ? paths.step(one.state, target, K_TRANSIENT) : p);
+    return { label, state: two.end === 'stable' ? names[two.state]! : null, path };
   };
   const ab = ordered(a, b);
   const ba = ordered(b, a);
-  const d = trace(s, target, start);
-  const direct: Outcome = { label: 'together', state: d.end === 'stable' ? t.states[d.state]! : null, path: d.steps };
+  const d = paths.trace(s, target, { state: s, column: c });
+  const direct: Outcome = { label: 'together', state: d.end === 'stable' ? names[d.state]! : null, path: d.steps };
   const say = (o: Outcome): string => (o.state === null ? 'fails' : `ends in ${o.state}`);
   return {
-    state: t.states[s]!,
-    from: columnToKey(c, n),
-    inputs: columnToKey(target, n),
-    message: `From stable (${t.states[s]}, ${columnToKey(c, n)}), changing ${t.inputs[a]} and ${t.inputs[b]} together is order-dependent: ${ab.label} ${say(ab)}, ${ba.label} ${say(ba)}, and together it ${say(direct)}.`,
+    code: l.code,
+    severity: l.severity,
+    state: names[s]!,
+    from: keys[c]!,
+    inputs: keys[target]!,
+    message: `From stable (${names[s]}, ${keys[c]}), changing ${t.inputs[a]} and ${t.inputs[b]} together is order-dependent: ${ab.label} ${say(ab)}, ${ba.label} ${say(ba)}, and together it ${say(direct)}.`,
     path: d.steps,
     outcomes: [ab, ba, direct],
   };

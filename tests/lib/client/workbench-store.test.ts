@@ -1,8 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { initWorkbench, workbenchReducer } from '../../../src/lib/client/workbench-store';
-import { reapplyEdits } from '../../../src/lib/client/reapply';
 import { replayScenario, runToVectors, startRun, stepRun } from '../../../src/lib/client/sim-session';
-import { applyEdit } from '../../../src/lib/client/table-edits';
 import { parseText } from '../../../src/lib/engine/formats/text';
 import { cellToText, countColumns, keyToColumn, type FlowTable } from '../../../src/lib/engine/model';
 import { simulateTable } from '../../../src/lib/engine/simulate';
@@ -52,24 +50,6 @@ describe('workbench store', () => {
     const s = workbenchReducer(start, { type: 'edit', edit: { kind: 'add-state', name: 'idle' } });
     expect(s.table).toBe(start.table);
     expect(s.editError).toMatch(/already a state named "idle"/);
-  });
-});
-
-describe('reapplyEdits', () => {
-  const base = parseText(DOOR);
-  it('carries my cell edits onto a head that changed other cells, and reports cells both changed', () => {
-    const mine = applyEdit(applyEdit(base, { kind: 'set-next', state: 0, column: keyToColumn('11'), next: 2 }), { kind: 'set-cell', state: 1, column: keyToColumn('10'), next: 0, bits: '0' });
-    const theirs = applyEdit(applyEdit(base, { kind: 'set-cell', state: 2, column: keyToColumn('00'), next: 0, bits: '0' }), { kind: 'set-cell', state: 1, column: keyToColumn('10'), next: 1, bits: '0' });
-    const r = reapplyEdits(base, mine, theirs);
-    expect(r.blocked).toBeNull();
-    expect(cell(r.table!, 'idle', '11')).toBe('open/-');
-    expect(cell(r.table!, 'open', '00')).toBe('idle/0');
-    expect(r.conflicts).toEqual([{ state: 'armed', inputs: '10', base: '-', mine: 'idle/0', theirs: 'armed/0' }]);
-    expect(cell(r.table!, 'armed', '10')).toBe('idle/0');
-  });
-  it('refuses a cell-by-cell merge when the inputs differ', () => {
-    const theirs = applyEdit(base, { kind: 'add-input', name: 'light' });
-    expect(reapplyEdits(base, base, theirs).blocked).toMatch(/inputs or outputs/);
   });
 });
 
