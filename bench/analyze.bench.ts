@@ -8,19 +8,8 @@ import { countColumns, createTable, NONE, type FlowTable } from '../src/lib/engi
 import { analyzeTable } from '../src/lib/engine/analyze';
 import { fillOutputs } from '../src/lib/engine/fill';
 import { buildTour } from '../src/lib/engine/tour';
+import { createRandom } from '../tests/support/seeded-random';
 import { median, timeMedian, type BenchRow } from './types';
-
-/** Seeded PRNG (mulberry32), so every run times the same tables. */
-function createRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** A random stable-heavy table with `states` rows, `inputs` inputs and 4 outputs. */
 export function buildRandomTable(states: number, inputs: number, seed: number): FlowTable {

@@ -10,19 +10,8 @@ import { parseText, tableToText } from '../src/lib/engine/formats/text';
 import { createTable, type FlowTable } from '../src/lib/engine/model';
 import { applyEdit } from '../src/lib/client/table-edits';
 import { workbenchReducer, initWorkbench } from '../src/lib/client/workbench-store';
+import { createRandom } from '../tests/support/seeded-random';
 import { timeMedian, type BenchRow } from './types';
-
-/** Deterministic pseudo-random numbers (mulberry32), so every run measures the same table. */
-function createRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /**
  * A 64 × 64 table shaped like a designed one: state k is stable in column k, every other cell

@@ -43,3 +43,8 @@ export function doorInterlockDocument(): Interchange {
     },
   };
 }
+
+/** The door interlock of `doorInterlockDocument` as a FlowTable (a fresh table each call). */
+export function doorInterlockTable(): FlowTable {
+  return interchangeToTable(doorInterlockDocument());
+}

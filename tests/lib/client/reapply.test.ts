@@ -1,22 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { reapplyEdits } from '../../../src/lib/client/reapply';
 import { applyEdit, type TableEdit } from '../../../src/lib/client/table-edits';
-import { parseText } from '../../../src/lib/engine/formats/text';
 import { cellToText, countColumns, keyToColumn, type FlowTable } from '../../../src/lib/engine/model';
+import { doorInterlockTable } from '../../support/worked-examples';
 
-// Invented example (door interlock), as in tests/fixtures/formats/door-interlock.qfl.
-const DOOR = `flow door_interlock
-inputs door_closed key
-outputs unlock
-reset idle
-
-grid     00       01       11       10
-  idle   idle/0   armed/0  -        idle/0
-  armed  idle/0   armed/0  open/-   -
-  open   -        armed/0  open/1   idle/0
-`;
-
-const base = parseText(DOOR);
+const base = doorInterlockTable();
 const cell = (t: FlowTable, state: string, key: string) => cellToText(t, t.states.indexOf(state) * countColumns(t.inputs.length) + keyToColumn(key));
 const edit = (t: FlowTable, ...edits: TableEdit[]) => edits.reduce((acc, e) => applyEdit(acc, e), t);
 const setCell = (t: FlowTable, state: string, key: string, next: string, bits: string | null): TableEdit => ({

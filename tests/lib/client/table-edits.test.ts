@@ -3,23 +3,12 @@ import { applyEdit, checkName, EditError, proposeName } from '../../../src/lib/c
 import { parseText, tableToText } from '../../../src/lib/engine/formats/text';
 import { cellToText, countColumns, keyToColumn, NONE, type FlowTable } from '../../../src/lib/engine/model';
 import { analyzeTable } from '../../../src/lib/engine/analyze';
-
-// Invented example (door interlock), as in tests/fixtures/formats/door-interlock.qfl.
-const DOOR = `flow door_interlock
-inputs door_closed key
-outputs unlock
-reset idle
-
-grid     00       01       11       10
-  idle   idle/0   armed/0  -        idle/0
-  armed  idle/0   armed/0  open/-   -
-  open   -        armed/0  open/1   idle/0
-`;
+import { doorInterlockTable } from '../../support/worked-examples';
 
 const cell = (t: FlowTable, state: string, key: string) => cellToText(t, t.states.indexOf(state) * countColumns(t.inputs.length) + keyToColumn(key));
 
 describe('applyEdit', () => {
-  const t = parseText(DOOR);
+  const t = doorInterlockTable();
 
   it('sets a cell with next state and output bits, leaving the argument unchanged', () => {
     const u = applyEdit(t, { kind: 'set-cell', state: 0, column: keyToColumn('11'), next: 2, bits: '1' });

@@ -5,7 +5,7 @@ import { parseText } from '../../../src/lib/engine/formats/text';
 import { cellToText, countColumns, keyToColumn, type FlowTable } from '../../../src/lib/engine/model';
 import { simulateTable } from '../../../src/lib/engine/simulate';
 
-// Invented example (door interlock), as in tests/fixtures/formats/door-interlock.qfl.
+// Invented example: a variant of the door interlock in tests/support/worked-examples.ts whose armed/11 cell sets unlock at once.
 const DOOR = `flow door_interlock
 inputs door_closed key
 outputs unlock

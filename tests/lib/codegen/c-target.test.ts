@@ -9,11 +9,12 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { DOUBLE_CHANGE_POLICIES, cloneTable, type DoubleChangePolicy, type FlowTable } from '../../../src/lib/engine/model';
+import { DOUBLE_CHANGE_POLICIES, type FlowTable } from '../../../src/lib/engine/model';
 import { generateBundle } from '../../../src/lib/codegen/bundle';
 import {
   ARM_CFLAGS,
   HOST_CFLAGS,
+  cloneWithPolicy,
   engineReplayLines,
   hostileTable,
   wideTable,
@@ -29,12 +30,6 @@ import {
 const work = mkdtempSync(join(tmpdir(), 'quiesce-codegen-c-'));
 afterAll(() => rmSync(work, { recursive: true, force: true }));
 
-function withPolicy(t: FlowTable, policy: DoubleChangePolicy): FlowTable {
-  const c = cloneTable(t);
-  c.settings = { ...c.settings, doubleChange: policy };
-  return c;
-}
-
 interface Case {
   id: string;
   table: FlowTable;
@@ -43,7 +38,7 @@ interface Case {
 
 const demos = loadDemoTables();
 const cases: Case[] = [
-  ...demos.flatMap(({ file, table }) => DOUBLE_CHANGE_POLICIES.map((p) => ({ id: `demo ${file} ${p}`, table: withPolicy(table, p) }))),
+  ...demos.flatMap(({ file, table }) => DOUBLE_CHANGE_POLICIES.map((p) => ({ id: `demo ${file} ${p}`, table: cloneWithPolicy(table, p) }))),
   ...loadKiss2Tables().map(({ file, table }) => ({ id: `kiss2 ${file}`, table })),
   ...sampleRandomTables(6, 4242).map((table, i) => ({ id: `random ${i + 1}`, table })),
   { id: 'hostile names', table: hostileTable() },
@@ -86,7 +81,7 @@ describe.concurrent('C bundles build cleanly, pass their own tests and replay li
 
 describe('C bundles of the demo tables', () => {
   it.each(demos.flatMap((d) => DOUBLE_CHANGE_POLICIES.map((p) => [d.file, p, d.table] as const)))('%s (%s) compiles for Cortex-M0+ with -Werror and is clean under cppcheck', async (_file, policy, table) => {
-    const bundle = await generateBundle(withPolicy(table, policy), { target: 'c', revision: 'r2' });
+    const bundle = await generateBundle(cloneWithPolicy(table, policy), { target: 'c', revision: 'r2' });
     const dir = mkdtempSync(join(work, 'demo-'));
     writeFiles(dir, bundle.files);
     const p = bundle.manifest.identifiers.prefix;

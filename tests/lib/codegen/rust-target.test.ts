@@ -11,9 +11,9 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DOUBLE_CHANGE_POLICIES, cloneTable, type DoubleChangePolicy, type FlowTable } from '../../../src/lib/engine/model';
+import { DOUBLE_CHANGE_POLICIES, type FlowTable } from '../../../src/lib/engine/model';
 import { generateBundle } from '../../../src/lib/codegen/bundle';
-import { engineReplayLines, hostileTable, wideTable, loadDemoTables, loadKiss2Tables, randomWalk, run, sampleRandomTables, writeFiles, type RunResult } from './support';
+import { cloneWithPolicy, engineReplayLines, hostileTable, wideTable, loadDemoTables, loadKiss2Tables, randomWalk, run, sampleRandomTables, writeFiles, type RunResult } from './support';
 
 const work = mkdtempSync(join(tmpdir(), 'quiesce-codegen-rust-'));
 // a fresh target folder shared by every crate of the run (stale example builds would confuse the replay lookup)
@@ -22,12 +22,6 @@ const cargoEnv = { ...process.env, CARGO_TARGET_DIR: target, CARGO_TERM_COLOR: '
 // the standalone crate builds apart, so nothing it links can stand in for a workspace crate's binary
 const standaloneEnv = { ...cargoEnv, CARGO_TARGET_DIR: join(work, 'standalone-target') };
 afterAll(() => rmSync(work, { recursive: true, force: true }));
-
-function withPolicy(t: FlowTable, policy: DoubleChangePolicy): FlowTable {
-  const c = cloneTable(t);
-  c.settings = { ...c.settings, doubleChange: policy };
-  return c;
-}
 
 interface Crate {
   id: string;
@@ -40,7 +34,7 @@ interface Crate {
 const demos = loadDemoTables();
 const specs: Omit<Crate, 'dir' | 'name'>[] = [
   ...demos.flatMap(({ file, table }) =>
-    DOUBLE_CHANGE_POLICIES.map((p) => ({ id: `demo ${file} ${p}`, table: withPolicy(table, p), prefix: `${table.settings.prefix ?? 'demo'}_${p}` })),
+    DOUBLE_CHANGE_POLICIES.map((p) => ({ id: `demo ${file} ${p}`, table: cloneWithPolicy(table, p), prefix: `${table.settings.prefix ?? 'demo'}_${p}` })),
   ),
   ...loadKiss2Tables().map(({ file, table }) => ({ id: `kiss2 ${file}`, table })),
   ...sampleRandomTables(6, 4242).map((table, i) => ({ id: `random ${i + 1}`, table, prefix: `random_${i + 1}` })),

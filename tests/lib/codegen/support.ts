@@ -7,11 +7,12 @@ import { spawn } from 'node:child_process';
 import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import fc from 'fast-check';
-import { columnToKey, createTable, interchangeToTable, type FlowTable } from '../../../src/lib/engine/model';
+import { cloneTable, columnToKey, createTable, interchangeToTable, type DoubleChangePolicy, type FlowTable } from '../../../src/lib/engine/model';
 import { parseKiss2 } from '../../../src/lib/engine/formats/kiss2';
 import { simulateTable } from '../../../src/lib/engine/simulate';
 import type { BundleFile } from '../../../src/lib/codegen/bundle';
 import { arbitraryTable } from '../../support/arbitrary-table';
+import { createRandom } from '../../support/seeded-random';
 
 /** The strict host flags of the issue, plus -Werror. */
 export const HOST_CFLAGS = ['-std=c99', '-O2', '-Wall', '-Wextra', '-Wpedantic', '-Wconversion', '-Wshadow', '-Werror'];
@@ -47,6 +48,13 @@ export function loadKiss2Tables(): { file: string; table: FlowTable }[] {
 /** A few random tables from the shared generator, fixed seed so every run sees the same ones. */
 export function sampleRandomTables(count: number, seed: number): FlowTable[] {
   return fc.sample(arbitraryTable({ maxInputs: 4, maxOutputs: 4, maxStates: 8 }), { numRuns: count, seed });
+}
+
+/** A copy of `t` whose settings use another double-change policy. */
+export function cloneWithPolicy(t: FlowTable, policy: DoubleChangePolicy): FlowTable {
+  const c = cloneTable(t);
+  c.settings = { ...c.settings, doubleChange: policy };
+  return c;
 }
 
 /** Hostile names of the issue: keywords of both targets, a leading digit, separators that collide after sanitizing, non-ASCII, 64 characters. */
@@ -135,18 +143,6 @@ export async function run(cmd: string, args: string[], opts: { cwd?: string; inp
     active--;
     waiting.shift()?.();
   }
-}
-
-/** A small deterministic PRNG (mulberry32). */
-export function createRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
 }
 
 /**
