@@ -70,7 +70,14 @@ function moveItem<T>(xs: T[], from: number, to: number): T[] {
 function rebuild(
   t: FlowTable,
   shape: { states: string[]; inputs: string[]; outputs: string[]; reset: number },
-  map: { state: (newState: number) => number; column: (newColumn: number) => number; next: (oldNext: number) => number; bits: (care: number, value: number) => [number, number] },
+  map: {
+    state: (newState: number) => number;
+    column: (newColumn: number) => number;
+    next: (oldNext: number) => number;
+    bits: (care: number, value: number) => [number, number];
+    /** How a scenario's input vector (character k = input k) follows a change of the inputs. */
+    vector?: (vector: string) => string;
+  },
 ): FlowTable {
   const out = createTable({
     name: t.name,
@@ -80,7 +87,7 @@ function rebuild(
     states: shape.states,
     reset: shape.reset,
     settings: t.settings,
-    scenarios: t.scenarios,
+    scenarios: map.vector ? t.scenarios.map((sc) => ({ name: sc.name, inputs: sc.inputs.map(map.vector!) })) : t.scenarios,
   });
   const oldCols = countColumns(t.inputs.length);
   const cols = countColumns(shape.inputs.length);
@@ -200,7 +207,13 @@ export function applyEdit(t: FlowTable, e: TableEdit): FlowTable {
       ensureName(e.name, t.inputs, 'input');
       const k = t.inputs.length;
       // The old behaviour is kept where the new input is 0; the new half of the table starts unspecified.
-      return rebuild(t, { states: t.states, inputs: [...t.inputs, e.name], outputs: t.outputs, reset: t.reset }, { state: identity, column: (c) => ((c >> k) & 1 ? -1 : c), next: identity, bits: sameBits });
+      return rebuild(t, { states: t.states, inputs: [...t.inputs, e.name], outputs: t.outputs, reset: t.reset }, {
+        state: identity,
+        column: (c) => ((c >> k) & 1 ? -1 : c),
+        next: identity,
+        bits: sameBits,
+        vector: (v) => `${v}0`, // the new input starts at 0 in every saved run
+      });
     }
     case 'rename-input': {
       ensureName(e.name, t.inputs, 'input', e.index);
@@ -215,7 +228,7 @@ export function applyEdit(t: FlowTable, e: TableEdit): FlowTable {
       return rebuild(
         t,
         { states: t.states, inputs: moveItem(t.inputs, e.from, e.to), outputs: t.outputs, reset: t.reset },
-        { state: identity, column: (c) => moveBit(c, e.to, e.from, n), next: identity, bits: sameBits },
+        { state: identity, column: (c) => moveBit(c, e.to, e.from, n), next: identity, bits: sameBits, vector: (v) => moveItem([...v], e.from, e.to).join('') },
       );
     }
     case 'delete-input': {
@@ -224,7 +237,7 @@ export function applyEdit(t: FlowTable, e: TableEdit): FlowTable {
       return rebuild(
         t,
         { states: t.states, inputs: t.inputs.filter((_, i) => i !== k), outputs: t.outputs, reset: t.reset },
-        { state: identity, column: (c) => (c & ((1 << k) - 1)) | ((c >> k) << (k + 1)), next: identity, bits: sameBits },
+        { state: identity, column: (c) => (c & ((1 << k) - 1)) | ((c >> k) << (k + 1)), next: identity, bits: sameBits, vector: (v) => v.slice(0, k) + v.slice(k + 1) },
       );
     }
     case 'add-output': {

@@ -59,6 +59,17 @@ describe('applyEdit', () => {
     expect(tableToText(applyEdit(u, { kind: 'delete-input', index: 2 }))).toBe(tableToText(t));
   });
 
+  it('keeps saved scenarios in step with added, moved and deleted inputs, so the table still reads back', () => {
+    const withRun = applyEdit(t, { kind: 'add-scenario', scenario: { name: 'unlock', inputs: ['00', '01', '11'] } });
+    const added = applyEdit(withRun, { kind: 'add-input', name: 'light' });
+    expect(added.scenarios[0]!.inputs).toEqual(['000', '010', '110']); // the new input is 0, as its old half of the table
+    const moved = applyEdit(added, { kind: 'move-input', from: 2, to: 0 });
+    expect(moved.scenarios[0]!.inputs).toEqual(['000', '001', '011']);
+    const deleted = applyEdit(moved, { kind: 'delete-input', index: 1 });
+    expect(deleted.scenarios[0]!.inputs).toEqual(['00', '01', '01']);
+    for (const u of [added, moved, deleted]) expect(parseText(tableToText(u)).scenarios).toEqual(u.scenarios);
+  });
+
   it('adds, moves and deletes outputs bit by bit', () => {
     const u = applyEdit(applyEdit(t, { kind: 'add-output', name: 'lamp' }), { kind: 'set-bits', state: 2, column: keyToColumn('11'), bits: '10' });
     expect(cell(u, 'open', '11')).toBe('open/10');
