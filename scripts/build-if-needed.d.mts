@@ -8,3 +8,5 @@ export function whyBuild(outDir?: string): string | null;
 export function ensureBuilt(options?: { outDir?: string; log?: (message: string) => void }): Promise<boolean>;
 /** The production server of a build (dist/server/serve.mjs). */
 export function serverEntryOf(outDir?: string): string;
+/** Whether a process with this id exists (EPERM: it does, but belongs to another user). */
+export function isAlive(pid: number): boolean;

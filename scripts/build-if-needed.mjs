@@ -71,7 +71,8 @@ function run(command, args, env) {
   });
 }
 
-function isAlive(pid) {
+/** Whether a process with this id exists (EPERM: it does, but belongs to another user). */
+export function isAlive(pid) {
   try {
     process.kill(pid, 0);
     return true;

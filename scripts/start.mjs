@@ -3,22 +3,13 @@
 import { spawn } from 'node:child_process';
 import fs from 'node:fs';
 import path from 'node:path';
-import { ensureBuilt, outDirOf, ROOT, serverEntryOf } from './build-if-needed.mjs';
+import { ensureBuilt, isAlive, outDirOf, ROOT, serverEntryOf } from './build-if-needed.mjs';
 
 const host = process.env.HOST ?? '127.0.0.1';
 const port = Number(process.env.PORT ?? 4321);
 const outDir = outDirOf();
 const usesEmbedded = !process.env.DATABASE_URL;
 const dataDir = path.resolve(ROOT, process.env.QUIESCE_DATA_DIR ?? '.data');
-
-function isAlive(pid) {
-  try {
-    process.kill(pid, 0);
-    return true;
-  } catch (error) {
-    return error.code === 'EPERM';
-  }
-}
 
 // Refuse early (before a build) when another process holds the embedded database.
 if (usesEmbedded) {

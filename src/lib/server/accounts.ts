@@ -88,19 +88,17 @@ async function issueEmailToken(db: Db, userId: string, purpose: EmailTokenPurpos
   return token;
 }
 
+/** The condition on email_tokens for a token of this purpose that is neither used nor expired. */
+function matchUsableToken(token: string, purpose: EmailTokenPurpose) {
+  return and(eq(emailTokens.tokenHash, sha256Hex(token)), eq(emailTokens.purpose, purpose), isNull(emailTokens.usedAt), gt(emailTokens.expiresAt, new Date()));
+}
+
 /** Marks a token used and returns its user id; 400 if unknown, used or expired. */
 async function consumeEmailToken(db: Db, token: string, purpose: EmailTokenPurpose): Promise<string> {
   const [row] = await db
     .update(emailTokens)
     .set({ usedAt: new Date() })
-    .where(
-      and(
-        eq(emailTokens.tokenHash, sha256Hex(token)),
-        eq(emailTokens.purpose, purpose),
-        isNull(emailTokens.usedAt),
-        gt(emailTokens.expiresAt, new Date()),
-      ),
-    )
+    .where(matchUsableToken(token, purpose))
     .returning({ userId: emailTokens.userId });
   if (!row) {
     throw new ApiError(400, 'invalid_token', 'This link is invalid, was already used, or has expired. Ask for a new one.', {
@@ -115,14 +113,7 @@ export async function isEmailTokenUsable(db: Db, token: string, purpose: EmailTo
   const [row] = await db
     .select({ id: emailTokens.id })
     .from(emailTokens)
-    .where(
-      and(
-        eq(emailTokens.tokenHash, sha256Hex(token)),
-        eq(emailTokens.purpose, purpose),
-        isNull(emailTokens.usedAt),
-        gt(emailTokens.expiresAt, new Date()),
-      ),
-    );
+    .where(matchUsableToken(token, purpose));
   return row !== undefined;
 }
 

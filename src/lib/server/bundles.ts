@@ -40,7 +40,8 @@ export type GeneratorChoice = 'pinned' | 'current';
 /** The generator version this server runs. */
 export const CURRENT_GENERATOR_VERSION = GENERATOR_VERSION;
 
-const meta = {
+/** The columns of a BundleMeta (every bundle column but the bytes), for selects and subqueries. */
+export const bundleMetaColumns = {
   id: bundles.id,
   revisionId: bundles.revisionId,
   target: bundles.target,
@@ -58,7 +59,7 @@ export function bundleFilename(controllerSlug: string, revisionNumber: number, t
 /** The stored bundle of a revision and target: the pinned (oldest) one, or one generator version's; null when none. */
 export async function findBundle(db: Db, revisionId: string, target: Target, generatorVersion?: string): Promise<BundleMeta | null> {
   const [row] = await db
-    .select(meta)
+    .select(bundleMetaColumns)
     .from(bundles)
     .where(
       and(

@@ -12,7 +12,7 @@ import { interchangeToTable, type FlowTable } from '../engine/model';
 import { ensureBundle, readBundleFiles, type BundleMeta } from './bundles';
 import type { Db } from './db';
 import { fail } from './errors';
-import { getRevision, type RevisionWithAuthor } from './revisions';
+import { getRevision, revisionSummarySchema, revisionToSummary, type RevisionSummary, type RevisionWithAuthor } from './revisions';
 import { TARGETS, type ControllerRow, type Target } from './schema';
 
 /** Query of the compare endpoint: `to` (default: the head) against `from` (default: the base of `to`). */
@@ -51,16 +51,6 @@ export const tableDiffSchema = z.object({
   cells: z.array(z.object({ state: z.string(), inputs: z.string(), before: z.string(), after: z.string() })),
 });
 
-/** One side of a comparison. */
-export const revisionSideSchema = z.object({
-  number: z.number().int(),
-  base: z.number().int().nullable(),
-  message: z.string(),
-  author: z.string().nullable(),
-  createdAt: z.string(),
-  findings: z.object({ error: z.number().int(), warning: z.number().int(), info: z.number().int() }),
-});
-
 /** Status of one file between the two sides. */
 export const FILE_STATUSES = ['added', 'removed', 'changed', 'unchanged'] as const;
 
@@ -85,8 +75,8 @@ export const targetDiffSchema = z.object({
 /** The JSON answer of the compare endpoint. */
 export const comparisonSchema = z.object({
   controller: z.object({ slug: z.string(), name: z.string() }),
-  from: revisionSideSchema,
-  to: revisionSideSchema,
+  from: revisionSummarySchema,
+  to: revisionSummarySchema,
   table: tableDiffSchema,
   findings: z.object({ added: z.array(findingSchema), resolved: z.array(findingSchema), unchanged: z.array(findingSchema) }),
   source: z.object({ path: z.string(), additions: z.number().int(), deletions: z.number().int(), patch: z.string() }),
@@ -113,18 +103,14 @@ export interface TargetComparison {
 /** A full comparison, as the compare page uses it (texts and tables included). */
 export interface Comparison {
   controller: { slug: string; name: string };
-  from: z.infer<typeof revisionSideSchema>;
-  to: z.infer<typeof revisionSideSchema>;
+  from: RevisionSummary;
+  to: RevisionSummary;
   tables: { from: FlowTable; to: FlowTable };
   sources: { from: string; to: string };
   table: Omit<TableDiff, 'findings'>;
   findings: NonNullable<TableDiff['findings']>;
   source: z.infer<typeof comparisonSchema>['source'];
   code: TargetComparison[];
-}
-
-function revisionToSide(r: RevisionWithAuthor): z.infer<typeof revisionSideSchema> {
-  return { number: r.number, base: r.baseNumber, message: r.message, author: r.authorName, createdAt: r.createdAt.toISOString(), findings: r.findings };
 }
 
 function countLines(patch: ReturnType<typeof structuredPatch>): { additions: number; deletions: number } {
@@ -212,8 +198,8 @@ export async function compareRevisions(
   }
   return {
     controller: { slug: controller.slug, name: controller.name },
-    from: revisionToSide(from),
-    to: revisionToSide(to),
+    from: revisionToSummary(from),
+    to: revisionToSummary(to),
     tables,
     sources: { from: from.source, to: to.source },
     table,

@@ -7,7 +7,7 @@
 import { and, asc, desc, eq, isNull, sql } from 'drizzle-orm';
 import { z } from 'zod';
 import { recordAudit } from './audit';
-import { bundleFilename, ensureBundle, peekBundleBytes, readBundleBytes, CURRENT_GENERATOR_VERSION, type BundleMeta, type GeneratorChoice } from './bundles';
+import { bundleFilename, bundleMetaColumns, ensureBundle, peekBundleBytes, readBundleBytes, CURRENT_GENERATOR_VERSION, type BundleMeta, type GeneratorChoice } from './bundles';
 import { getCachedDownload, readDownloadEpoch, setCachedDownload } from './download-cache';
 import { ciKeyRowToPrincipal, ciKeyToHash, CI_KEY_PREFIX, keyCanRead, recordCiKeyUse, type CiKeyPrincipal } from './ci-keys';
 import type { Db } from './db';
@@ -149,15 +149,7 @@ async function resolveRevisionWithBundle(
   // One query: the revision, the release it came through, and (optionally) its pinned bundle.
   const pinned = bundle
     ? db
-        .select({
-          id: bundles.id,
-          revisionId: bundles.revisionId,
-          target: bundles.target,
-          generatorVersion: bundles.generatorVersion,
-          sha256: bundles.sha256,
-          size: bundles.size,
-          createdAt: bundles.createdAt,
-        })
+        .select(bundleMetaColumns)
         .from(bundles)
         .where(
           and(

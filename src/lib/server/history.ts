@@ -8,16 +8,11 @@ import { loadBundleHashes } from './bundles';
 import type { Db } from './db';
 import { loadReleaseLabels } from './releases';
 import { loadReviewStates, REVISION_REVIEW_STATES } from './review-states';
-import { controllers, releases, revisions, users } from './schema';
+import { listRevisions, revisionSummarySchema, revisionToSummary } from './revisions';
+import { controllers, releases } from './schema';
 
 /** One row of the history page and of the revisions API. */
-export const historyEntrySchema = z.object({
-  number: z.number().int(),
-  base: z.number().int().nullable(),
-  message: z.string(),
-  author: z.string().nullable(),
-  createdAt: z.string(),
-  findings: z.object({ error: z.number().int(), warning: z.number().int(), info: z.number().int() }),
+export const historyEntrySchema = revisionSummarySchema.extend({
   review: z.enum(REVISION_REVIEW_STATES),
   releases: z.array(z.string()),
   /** Pinned bundle sha256 per target; a target is absent until its bundle was first made. */
@@ -29,29 +24,11 @@ export type HistoryEntry = z.infer<typeof historyEntrySchema>;
 
 /** Every revision of a controller, newest first, with review state, releases and bundle hashes. */
 export async function listHistory(db: Db, controllerId: string): Promise<HistoryEntry[]> {
-  const rows = await db
-    .select({
-      id: revisions.id,
-      number: revisions.number,
-      base: revisions.baseNumber,
-      message: revisions.message,
-      findings: revisions.findings,
-      createdAt: revisions.createdAt,
-      author: users.displayName,
-    })
-    .from(revisions)
-    .leftJoin(users, eq(users.id, revisions.authorId))
-    .where(eq(revisions.controllerId, controllerId))
-    .orderBy(desc(revisions.number));
+  const rows = await listRevisions(db, controllerId);
   const ids = rows.map((r) => r.id);
   const [states, labels, hashes] = [await loadReviewStates(db, ids), await loadReleaseLabels(db, ids), await loadBundleHashes(db, ids)];
   return rows.map((r) => ({
-    number: r.number,
-    base: r.base,
-    message: r.message,
-    author: r.author ?? null,
-    createdAt: r.createdAt.toISOString(),
-    findings: r.findings,
+    ...revisionToSummary(r),
     review: states.get(r.id) ?? 'none',
     releases: labels.get(r.id) ?? [],
     bundles: hashes.get(r.id) ?? {},

@@ -4,6 +4,7 @@
  * nothing, so concurrent edits are never lost silently.
  */
 import { and, desc, eq, sql } from 'drizzle-orm';
+import { z } from 'zod';
 import { analyzeTable } from '../engine/analyze';
 import { FlowTableError, tableToInterchange, type EngineIssue, type FlowTable } from '../engine/model';
 import { parseSource, type SourceFormat } from '../engine/formats';
@@ -138,6 +139,24 @@ export async function createRevisionFromTable(db: Db, input: Omit<CreateRevision
 /** A revision with its author's display name. */
 export type RevisionWithAuthor = RevisionRow & { authorName: string | null };
 
+/** A revision without its texts, as the history and both sides of a comparison show it. */
+export const revisionSummarySchema = z.object({
+  number: z.number().int(),
+  base: z.number().int().nullable(),
+  message: z.string(),
+  author: z.string().nullable(),
+  createdAt: z.string(),
+  findings: z.object({ error: z.number().int(), warning: z.number().int(), info: z.number().int() }),
+});
+
+/** A revision without its texts, as the history and both sides of a comparison show it. */
+export type RevisionSummary = z.infer<typeof revisionSummarySchema>;
+
+/** The summary of a revision (a full row or a row of listRevisions). */
+export function revisionToSummary(r: Pick<RevisionWithAuthor, 'number' | 'baseNumber' | 'message' | 'authorName' | 'createdAt' | 'findings'>): RevisionSummary {
+  return { number: r.number, base: r.baseNumber, message: r.message, author: r.authorName ?? null, createdAt: r.createdAt.toISOString(), findings: r.findings };
+}
+
 /** One revision of a controller by number, or null. */
 export async function getRevision(db: Db, controllerId: string, number: number): Promise<RevisionWithAuthor | null> {
   const [row] = await db
@@ -164,6 +183,7 @@ export async function getHeadRevision(db: Db, controllerId: string): Promise<Rev
 export async function listRevisions(db: Db, controllerId: string) {
   return db
     .select({
+      id: revisions.id,
       number: revisions.number,
       baseNumber: revisions.baseNumber,
       message: revisions.message,

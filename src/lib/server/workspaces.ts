@@ -189,14 +189,27 @@ export async function listMembersWithRole(db: Db, workspaceId: string, roles: Ro
   return (await listMembers(db, workspaceId)).filter((m) => roles.includes(m.role));
 }
 
-async function lockOwners(tx: Db, workspaceId: string): Promise<string[]> {
+/**
+ * Locks the workspace's memberships for a role change or removal (`next: null`) of one member and
+ * returns the member's current role; 404 when not a member, 409 `last_owner` when the change would
+ * leave the workspace without an owner.
+ */
+async function lockMembershipChange(tx: Db, workspaceId: string, userId: string, next: Role | null): Promise<Role> {
   // Serialise owner changes: lock the workspace row, then count owners.
   await tx.execute(sql`select id from ${workspaces} where ${workspaces.id} = ${workspaceId} for update`);
-  const rows = await tx
+  const owners = await tx
     .select({ userId: memberships.userId })
     .from(memberships)
     .where(and(eq(memberships.workspaceId, workspaceId), eq(memberships.role, 'owner')));
-  return rows.map((r) => r.userId);
+  const [current] = await tx
+    .select({ role: memberships.role })
+    .from(memberships)
+    .where(and(eq(memberships.workspaceId, workspaceId), eq(memberships.userId, userId)));
+  if (!current) throw fail.notFound('Member');
+  if (current.role === 'owner' && next !== 'owner' && owners.length <= 1) {
+    throw fail.conflict('A workspace needs at least one owner. Make someone else owner first.', next === null ? undefined : 'role', 'last_owner');
+  }
+  return current.role;
 }
 
 /** Changes a member's role (owners); the last owner cannot be demoted. */
@@ -204,16 +217,8 @@ export async function changeRole(db: Db, member: MemberContext, targetUserId: st
   requireAction(member, 'members.manage');
   const newRole = roleSchema.parse(role);
   await db.transaction(async (tx) => {
-    const owners = await lockOwners(tx, member.workspace.id);
-    const [current] = await tx
-      .select({ role: memberships.role })
-      .from(memberships)
-      .where(and(eq(memberships.workspaceId, member.workspace.id), eq(memberships.userId, targetUserId)));
-    if (!current) throw fail.notFound('Member');
-    if (current.role === newRole) return;
-    if (current.role === 'owner' && owners.length <= 1) {
-      throw fail.conflict('A workspace needs at least one owner. Make someone else owner first.', 'role', 'last_owner');
-    }
+    const from = await lockMembershipChange(tx, member.workspace.id, targetUserId, newRole);
+    if (from === newRole) return;
     await tx
       .update(memberships)
       .set({ role: newRole })
@@ -223,7 +228,7 @@ export async function changeRole(db: Db, member: MemberContext, targetUserId: st
       actorUserId: member.userId,
       action: 'member.role-changed',
       target: `user:${targetUserId}`,
-      detail: { from: current.role, to: newRole },
+      detail: { from, to: newRole },
     });
   });
 }
@@ -233,15 +238,7 @@ export async function removeMember(db: Db, member: MemberContext, targetUserId: 
   const leaving = targetUserId === member.userId;
   if (!leaving) requireAction(member, 'members.manage');
   await db.transaction(async (tx) => {
-    const owners = await lockOwners(tx, member.workspace.id);
-    const [current] = await tx
-      .select({ role: memberships.role })
-      .from(memberships)
-      .where(and(eq(memberships.workspaceId, member.workspace.id), eq(memberships.userId, targetUserId)));
-    if (!current) throw fail.notFound('Member');
-    if (current.role === 'owner' && owners.length <= 1) {
-      throw fail.conflict('A workspace needs at least one owner. Make someone else owner first.', undefined, 'last_owner');
-    }
+    const role = await lockMembershipChange(tx, member.workspace.id, targetUserId, null);
     await tx
       .delete(memberships)
       .where(and(eq(memberships.workspaceId, member.workspace.id), eq(memberships.userId, targetUserId)));
@@ -250,7 +247,7 @@ export async function removeMember(db: Db, member: MemberContext, targetUserId: 
       actorUserId: member.userId,
       action: leaving ? 'member.left' : 'member.removed',
       target: `user:${targetUserId}`,
-      detail: { role: current.role },
+      detail: { role },
     });
   });
 }

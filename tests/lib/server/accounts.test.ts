@@ -8,26 +8,17 @@ import {
   verifyEmail,
 } from '../../../src/lib/server/accounts';
 import type { DatabaseHandle } from '../../../src/lib/server/db';
-import { ApiError, toApiError } from '../../../src/lib/server/errors';
 import { sessions, users, emailTokens } from '../../../src/lib/server/schema';
 import { validateSession, SESSION_COOKIE } from '../../../src/lib/server/session';
 import { verifyPassword } from '../../../src/lib/server/passwords';
 import { BACKENDS } from './support/backends';
+import { catchRejection } from './support/errors';
 import { lastMailTo, linkIn, tokenOf } from './support/mail';
 
 const ORIGIN = 'http://127.0.0.1:4999';
 let client = 0;
 const ctx = () => ({ origin: ORIGIN, clientKey: `test-client-${backendTag}-${++client}` });
 let backendTag = '';
-
-async function rejection(p: Promise<unknown>): Promise<ApiError> {
-  try {
-    await p;
-  } catch (e) {
-    return toApiError(e);
-  }
-  throw new Error('expected a rejection');
-}
 
 describe.each(BACKENDS)('accounts on $name', (backend) => {
   let handle: DatabaseHandle;
@@ -65,13 +56,13 @@ describe.each(BACKENDS)('accounts on $name', (backend) => {
 
     const verified = await verifyEmail(db, tokenOf(link));
     expect(verified.emailVerified).toBe(true);
-    const again = await rejection(verifyEmail(db, tokenOf(link)));
+    const again = await catchRejection(verifyEmail(db, tokenOf(link)));
     expect(again.status).toBe(400);
     expect(again.code).toBe('invalid_token');
   });
 
   it('refuses a second account for the same address (any case) with 409 on field email', async () => {
-    const error = await rejection(
+    const error = await catchRejection(
       signUp(handle.db, { email: 'MAJA.LIND@example.test', password: 'another password', displayName: 'Other' }, ctx()),
     );
     expect(error.status).toBe(409);
@@ -79,10 +70,10 @@ describe.each(BACKENDS)('accounts on $name', (backend) => {
   });
 
   it('answers bad sign-up input with 400 naming the field', async () => {
-    const short = await rejection(signUp(handle.db, { email: 'x@example.test', password: 'short', displayName: 'X' }, ctx()));
+    const short = await catchRejection(signUp(handle.db, { email: 'x@example.test', password: 'short', displayName: 'X' }, ctx()));
     expect(short.status).toBe(400);
     expect(short.field).toBe('password');
-    const bad = await rejection(signUp(handle.db, { email: 'not-an-address', password: 'long enough pass', displayName: 'X' }, ctx()));
+    const bad = await catchRejection(signUp(handle.db, { email: 'not-an-address', password: 'long enough pass', displayName: 'X' }, ctx()));
     expect(bad.field).toBe('email');
   });
 
@@ -90,19 +81,19 @@ describe.each(BACKENDS)('accounts on $name', (backend) => {
     const { db } = handle;
     const ok = await signIn(db, { email: 'maja.lind@example.test', password: 'correct horse battery' }, { clientKey: `sign-in-ok-${backend.name}` });
     expect(ok.user.email).toBe('maja.lind@example.test');
-    const wrong = await rejection(signIn(db, { email: 'maja.lind@example.test', password: 'wrong password' }, { clientKey: `sign-in-ok-${backend.name}` }));
+    const wrong = await catchRejection(signIn(db, { email: 'maja.lind@example.test', password: 'wrong password' }, { clientKey: `sign-in-ok-${backend.name}` }));
     expect(wrong.status).toBe(401);
-    const unknown = await rejection(signIn(db, { email: 'nobody@example.test', password: 'whatever it is' }, { clientKey: `sign-in-ok-${backend.name}` }));
+    const unknown = await catchRejection(signIn(db, { email: 'nobody@example.test', password: 'whatever it is' }, { clientKey: `sign-in-ok-${backend.name}` }));
     expect(unknown.status).toBe(401);
     expect(unknown.message).toBe(wrong.message);
     const statuses: number[] = [];
     for (let i = 0; i < 10; i += 1) {
-      statuses.push((await rejection(signIn(db, { email: 'maja.lind@example.test', password: `guess ${i}` }, { clientKey: `attacker-${backend.name}` }))).status);
+      statuses.push((await catchRejection(signIn(db, { email: 'maja.lind@example.test', password: `guess ${i}` }, { clientKey: `attacker-${backend.name}` }))).status);
     }
     expect(statuses.slice(0, 8).every((s) => s === 401)).toBe(true);
     expect(statuses.slice(8)).toEqual([429, 429]);
     // Even the right password is refused while the limit holds.
-    const limited = await rejection(signIn(db, { email: 'maja.lind@example.test', password: 'correct horse battery' }, { clientKey: `attacker-${backend.name}` }));
+    const limited = await catchRejection(signIn(db, { email: 'maja.lind@example.test', password: 'correct horse battery' }, { clientKey: `attacker-${backend.name}` }));
     expect(limited.status).toBe(429);
     expect(limited.headers['Retry-After']).toMatch(/^\d+$/);
   });
@@ -119,9 +110,9 @@ describe.each(BACKENDS)('accounts on $name', (backend) => {
     const [row] = await db.select().from(users).where(eq(users.email, 'maja.lind@example.test'));
     const remaining = await db.select().from(sessions).where(eq(sessions.userId, row!.id));
     expect(remaining).toEqual([]);
-    const reused = await rejection(resetPassword(db, { token, password: 'yet another passphrase' }, { clientKey: `reset-flow-${backend.name}` }));
+    const reused = await catchRejection(resetPassword(db, { token, password: 'yet another passphrase' }, { clientKey: `reset-flow-${backend.name}` }));
     expect(reused.status).toBe(400);
-    const old = await rejection(signIn(db, { email: 'maja.lind@example.test', password: 'correct horse battery' }, { clientKey: `reset-flow-${backend.name}` }));
+    const old = await catchRejection(signIn(db, { email: 'maja.lind@example.test', password: 'correct horse battery' }, { clientKey: `reset-flow-${backend.name}` }));
     expect(old.status).toBe(401);
     await signIn(db, { email: 'maja.lind@example.test', password: 'a brand new passphrase' }, { clientKey: `reset-flow-${backend.name}` });
   });
@@ -136,7 +127,7 @@ describe.each(BACKENDS)('accounts on $name', (backend) => {
     await requestPasswordReset(db, { email: 'maja.lind@example.test' }, ctx());
     const token = tokenOf(linkIn((await lastMailTo(db, 'maja.lind@example.test')).text, '/auth/reset/'));
     await db.update(emailTokens).set({ expiresAt: new Date(Date.now() - 1000) });
-    const expired = await rejection(resetPassword(db, { token, password: 'too late passphrase' }, { clientKey: `expired-${backend.name}` }));
+    const expired = await catchRejection(resetPassword(db, { token, password: 'too late passphrase' }, { clientKey: `expired-${backend.name}` }));
     expect(expired.status).toBe(400);
     expect(expired.code).toBe('invalid_token');
   });

@@ -2,40 +2,32 @@ import { describe, expect, it } from 'vitest';
 import { z } from 'zod';
 import { ApiError, jsonError, toApiError } from '../../../src/lib/server/errors';
 import { parseForm, readJson, safeNext } from '../../../src/lib/server/http';
+import { catchRejection } from './support/errors';
 
 function post(body: string, type = 'application/json', headers: Record<string, string> = {}) {
   return new Request('http://127.0.0.1/api/x', { method: 'POST', headers: { 'Content-Type': type, ...headers }, body });
 }
 const schema = z.object({ name: z.string().min(2), count: z.number().int().optional() });
 
-async function rejection(p: Promise<unknown>): Promise<ApiError> {
-  try {
-    await p;
-  } catch (e) {
-    return toApiError(e);
-  }
-  throw new Error('expected a rejection');
-}
-
 describe('readJson', () => {
   it('parses a valid body', async () => {
     await expect(readJson(post('{"name":"ok","count":2}'), schema)).resolves.toEqual({ name: 'ok', count: 2 });
   });
   it('answers malformed JSON with 400 malformed_json', async () => {
-    const e = await rejection(readJson(post('{"name":'), schema));
+    const e = await catchRejection(readJson(post('{"name":'), schema));
     expect([e.status, e.code]).toEqual([400, 'malformed_json']);
   });
   it('answers a schema violation with 400 naming the field path', async () => {
-    const e = await rejection(readJson(post('{"name":"x","count":1.5}'), schema));
+    const e = await catchRejection(readJson(post('{"name":"x","count":1.5}'), schema));
     expect([e.status, e.code]).toEqual([400, 'invalid']);
     expect(e.field).toBe('name');
-    const nested = await rejection(readJson(post('{"name":"okay","count":"3"}'), schema));
+    const nested = await catchRejection(readJson(post('{"name":"okay","count":"3"}'), schema));
     expect(nested.field).toBe('count');
   });
   it('answers another content type with 415 and a too large body with 413', async () => {
-    expect((await rejection(readJson(post('name=x', 'application/x-www-form-urlencoded'), schema))).status).toBe(415);
-    expect((await rejection(readJson(post(JSON.stringify({ name: 'x'.repeat(2000) })), schema, { maxBytes: 1000 }))).status).toBe(413);
-    expect((await rejection(readJson(post('{}', 'application/json', { 'Content-Length': '99999999' }), schema, { maxBytes: 1000 }))).status).toBe(413);
+    expect((await catchRejection(readJson(post('name=x', 'application/x-www-form-urlencoded'), schema))).status).toBe(415);
+    expect((await catchRejection(readJson(post(JSON.stringify({ name: 'x'.repeat(2000) })), schema, { maxBytes: 1000 }))).status).toBe(413);
+    expect((await catchRejection(readJson(post('{}', 'application/json', { 'Content-Length': '99999999' }), schema, { maxBytes: 1000 }))).status).toBe(413);
   });
 });
 

@@ -3,7 +3,7 @@ import { eq } from 'drizzle-orm';
 import { signUp, verifyEmail, type AccountView } from '../../../src/lib/server/accounts';
 import { listAudit } from '../../../src/lib/server/audit';
 import type { DatabaseHandle } from '../../../src/lib/server/db';
-import { toApiError, type ApiError } from '../../../src/lib/server/errors';
+import { toApiError } from '../../../src/lib/server/errors';
 import { acceptInvite, createInvite, declineInvite, listOpenInvites, previewInvite, revokeInvite } from '../../../src/lib/server/invites';
 import { ACTIONS, can, PERMISSIONS, requireMember } from '../../../src/lib/server/permissions';
 import { invites, users, type Role } from '../../../src/lib/server/schema';
@@ -18,18 +18,10 @@ import {
   renameWorkspace,
 } from '../../../src/lib/server/workspaces';
 import { BACKENDS } from './support/backends';
+import { catchRejection } from './support/errors';
 import { lastMailTo, linkIn, tokenOf } from './support/mail';
 
 const ORIGIN = 'http://127.0.0.1:4999';
-
-async function rejection(p: Promise<unknown>): Promise<ApiError> {
-  try {
-    await p;
-  } catch (e) {
-    return toApiError(e);
-  }
-  throw new Error('expected a rejection');
-}
 
 describe('role matrix', () => {
   // The matrix of issue 2: owner all; editor edits controllers; reviewer reviews and approves; viewer reads.
@@ -91,10 +83,10 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
     expect(ws.slug).toBe('line-3-controls');
     const again = await createWorkspace(handle.db, people.olga!, { name: 'Line 3 Controls' });
     expect(again.slug).toBe('line-3-controls-2');
-    const clash = await rejection(createWorkspace(handle.db, people.olga!, { name: 'Other', slug: 'line-3-controls' }));
+    const clash = await catchRejection(createWorkspace(handle.db, people.olga!, { name: 'Other', slug: 'line-3-controls' }));
     expect(clash.status).toBe(409);
     expect(clash.field).toBe('slug');
-    const reserved = await rejection(createWorkspace(handle.db, people.olga!, { name: 'Other', slug: 'api' }));
+    const reserved = await catchRejection(createWorkspace(handle.db, people.olga!, { name: 'Other', slug: 'api' }));
     expect(reserved.status).toBe(400);
     const list = await listWorkspacesForUser(handle.db, people.olga!.id);
     expect(list.map((w) => [w.slug, w.role, w.members])).toEqual([
@@ -104,7 +96,7 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
   });
 
   it('requires a confirmed address to create a workspace', async () => {
-    const error = await rejection(createWorkspace(handle.db, people.unverified!, { name: 'Nope' }));
+    const error = await catchRejection(createWorkspace(handle.db, people.unverified!, { name: 'Nope' }));
     expect(error.status).toBe(403);
     expect(error.code).toBe('email_unverified');
   });
@@ -119,7 +111,7 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
       const token = tokenOf(linkIn(mail.text, '/invites/'));
       expect((await previewInvite(handle.db, token))?.state).toBe('open');
       expect(await acceptInvite(handle.db, people[key]!.id, token)).toEqual({ slug: 'line-3-controls', role });
-      const reused = await rejection(acceptInvite(handle.db, people[key]!.id, token));
+      const reused = await catchRejection(acceptInvite(handle.db, people[key]!.id, token));
       expect(reused.status).toBe(404);
       expect((await previewInvite(handle.db, token))?.state).toBe('accepted');
     }
@@ -130,7 +122,7 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
       ['rita', 'reviewer'],
       ['vic', 'viewer'],
     ]);
-    const dup = await rejection(createInvite(handle.db, owner, people.olga!, { email: 'ed@example.test', role: 'viewer' }, ORIGIN));
+    const dup = await catchRejection(createInvite(handle.db, owner, people.olga!, { email: 'ed@example.test', role: 'viewer' }, ORIGIN));
     expect(dup.status).toBe(409);
   });
 
@@ -138,7 +130,7 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
     const owner = await requireMember(handle.db, people.olga!.id, 'line-3-controls');
     await createInvite(handle.db, owner, people.olga!, { email: 'nora@example.test', role: 'editor' }, ORIGIN);
     const first = tokenOf(linkIn((await lastMailTo(handle.db, 'nora@example.test')).text, '/invites/'));
-    const wrong = await rejection(acceptInvite(handle.db, people.ed!.id, first));
+    const wrong = await catchRejection(acceptInvite(handle.db, people.ed!.id, first));
     expect(wrong.status).toBe(403);
     expect(wrong.code).toBe('wrong_account');
     // A new invite to the same address replaces the old link.
@@ -149,10 +141,10 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
     expect(open.map((i) => [i.email, i.role])).toEqual([['nora@example.test', 'viewer']]);
     await handle.db.update(invites).set({ expiresAt: new Date(Date.now() - 1) }).where(eq(invites.email, 'nora@example.test'));
     expect((await previewInvite(handle.db, second))?.state).toBe('expired');
-    expect((await rejection(acceptInvite(handle.db, people.nora!.id, second))).status).toBe(404);
+    expect((await catchRejection(acceptInvite(handle.db, people.nora!.id, second))).status).toBe(404);
     const third = await createInvite(handle.db, owner, people.olga!, { email: 'nora@example.test', role: 'viewer' }, ORIGIN);
     await revokeInvite(handle.db, owner, third.invite.id);
-    expect((await rejection(acceptInvite(handle.db, people.nora!.id, tokenOf(third.url)))).status).toBe(404);
+    expect((await catchRejection(acceptInvite(handle.db, people.nora!.id, tokenOf(third.url)))).status).toBe(404);
     const fourth = await createInvite(handle.db, owner, people.olga!, { email: 'nora@example.test', role: 'viewer' }, ORIGIN);
     await declineInvite(handle.db, tokenOf(fourth.url), null);
     expect((await previewInvite(handle.db, tokenOf(fourth.url)))?.state).toBe('declined');
@@ -168,38 +160,38 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
   });
 
   it('hides workspaces from non-members with 404 and refuses roles without the action with 403', async () => {
-    const missing = await rejection(requireMember(handle.db, people.nora!.id, 'line-3-controls'));
+    const missing = await catchRejection(requireMember(handle.db, people.nora!.id, 'line-3-controls'));
     expect(missing.status).toBe(404);
-    const unknown = await rejection(requireMember(handle.db, people.olga!.id, 'no-such-workspace'));
+    const unknown = await catchRejection(requireMember(handle.db, people.olga!.id, 'no-such-workspace'));
     expect(unknown.status).toBe(404);
-    const anonymous = await rejection(requireMember(handle.db, null, 'line-3-controls'));
+    const anonymous = await catchRejection(requireMember(handle.db, null, 'line-3-controls'));
     expect(anonymous.status).toBe(401);
     for (const key of ['ed', 'rita', 'vic']) {
       const m = await requireMember(handle.db, people[key]!.id, 'line-3-controls');
-      expect((await rejection(renameWorkspace(handle.db, m, 'Hijacked'))).status).toBe(403);
-      expect((await rejection(changeRole(handle.db, m, people[key]!.id, 'owner'))).status).toBe(403);
-      expect((await rejection(createInvite(handle.db, m, people[key]!, { email: 'x@example.test', role: 'owner' }, ORIGIN))).status).toBe(403);
-      expect((await rejection(deleteWorkspace(handle.db, m, 'line-3-controls'))).status).toBe(403);
-      expect((await rejection(removeMember(handle.db, m, people.olga!.id))).status).toBe(403);
+      expect((await catchRejection(renameWorkspace(handle.db, m, 'Hijacked'))).status).toBe(403);
+      expect((await catchRejection(changeRole(handle.db, m, people[key]!.id, 'owner'))).status).toBe(403);
+      expect((await catchRejection(createInvite(handle.db, m, people[key]!, { email: 'x@example.test', role: 'owner' }, ORIGIN))).status).toBe(403);
+      expect((await catchRejection(deleteWorkspace(handle.db, m, 'line-3-controls'))).status).toBe(403);
+      expect((await catchRejection(removeMember(handle.db, m, people.olga!.id))).status).toBe(403);
     }
   });
 
   it('changes roles and removes members but always keeps one owner', async () => {
     const owner = await requireMember(handle.db, people.olga!.id, 'line-3-controls');
-    const last = await rejection(changeRole(handle.db, owner, people.olga!.id, 'editor'));
+    const last = await catchRejection(changeRole(handle.db, owner, people.olga!.id, 'editor'));
     expect(last.status).toBe(409);
     expect(last.code).toBe('last_owner');
-    expect((await rejection(removeMember(handle.db, owner, people.olga!.id))).code).toBe('last_owner');
+    expect((await catchRejection(removeMember(handle.db, owner, people.olga!.id))).code).toBe('last_owner');
     await changeRole(handle.db, owner, people.ed!.id, 'owner');
     await changeRole(handle.db, owner, people.olga!.id, 'editor');
     const ed = await requireMember(handle.db, people.ed!.id, 'line-3-controls');
     expect(ed.role).toBe('owner');
     await changeRole(handle.db, ed, people.olga!.id, 'owner');
     await removeMember(handle.db, ed, people.vic!.id);
-    expect((await rejection(requireMember(handle.db, people.vic!.id, 'line-3-controls'))).status).toBe(404);
+    expect((await catchRejection(requireMember(handle.db, people.vic!.id, 'line-3-controls'))).status).toBe(404);
     const rita = await requireMember(handle.db, people.rita!.id, 'line-3-controls');
     await removeMember(handle.db, rita, people.rita!.id); // leaving is allowed for every role
-    expect((await rejection(changeRole(handle.db, ed, 'nobody', 'viewer'))).status).toBe(404);
+    expect((await catchRejection(changeRole(handle.db, ed, 'nobody', 'viewer'))).status).toBe(404);
   });
 
   it('renames (slug kept), audits membership changes, and deletes with the slug typed', async () => {
@@ -219,10 +211,10 @@ describe.each(BACKENDS)('workspaces and members on $name', (backend) => {
     const page2 = await listAudit(handle.db, owner.workspace.id, { limit: 3, before: page1.nextBefore ?? undefined });
     expect(page1.items.length).toBe(3);
     expect(page2.items[0]!.id).toBeLessThan(page1.items[2]!.id);
-    const wrong = await rejection(deleteWorkspace(handle.db, owner, 'line-3'));
+    const wrong = await catchRejection(deleteWorkspace(handle.db, owner, 'line-3'));
     expect(wrong.status).toBe(400);
     expect(wrong.field).toBe('confirm');
     await deleteWorkspace(handle.db, owner, 'line-3-controls');
-    expect((await rejection(requireMember(handle.db, people.olga!.id, 'line-3-controls'))).status).toBe(404);
+    expect((await catchRejection(requireMember(handle.db, people.olga!.id, 'line-3-controls'))).status).toBe(404);
   });
 });
