@@ -1,13 +1,13 @@
 /**
  * Reapplying a user's edits onto a newer head after a stale-base save: what changed between
- * the base and the user's draft is carried over to the head. That covers renamed states,
- * inputs and outputs, added and deleted states, cells, the reset state, settings, the
- * description and scenarios. A cell both sides changed differently is a conflict, and the
+ * the base and the user's draft is carried over to the head. That covers renamed, added and
+ * deleted states, inputs and outputs, cells, the reset state, settings, the description and
+ * scenarios. A cell both sides changed differently is a conflict, and the
  * user's value wins only when they confirm. Everything is matched by name, so reordered rows
  * still match.
  */
 import { cellToText, countColumns, grayKeys, keyToColumn, NONE, setCellBits, cloneTable, type FlowTable } from '../engine/model';
-import { applyEdit, type TableEdit } from './table-edits';
+import { applyEdit, EditError, type TableEdit } from './table-edits';
 
 /** One cell both sides changed differently. */
 export interface ReapplyConflict {
@@ -25,7 +25,7 @@ export interface ReapplyResult {
   conflicts: ReapplyConflict[];
   /** Edits of the user's that were not carried over, and why (e.g. a deleted state the head changed). */
   notes: string[];
-  /** Why a cell-by-cell merge was not possible (inputs or outputs added or deleted). */
+  /** Why a merge was not possible (e.g. together the two sides would exceed the input limit). */
   blocked: string | null;
 }
 
@@ -77,20 +77,89 @@ function rowsEqual(a: FlowTable, b: FlowTable, state: string): boolean {
   return grayKeys(a.inputs.length).every((k) => cellAt(a, state, k) === cellAt(b, state, k));
 }
 
-function describeListChange(kind: 'input' | 'output', base: string[], mine: string[], theirs: string[]): string | null {
-  const added = (from: string[], to: string[]) => to.filter((x) => !from.includes(x));
-  const parts: string[] = [];
-  for (const [who, side] of [
-    ['you', mine],
-    ['the newer revision', theirs],
-  ] as const) {
-    const plus = added(base, side);
-    const minus = added(side, base);
-    if (plus.length) parts.push(`${who} added ${kind}${plus.length > 1 ? 's' : ''} ${plus.join(', ')}`);
-    if (minus.length) parts.push(`${who} deleted ${kind}${minus.length > 1 ? 's' : ''} ${minus.join(', ')}`);
-    if (!plus.length && !minus.length && !sameList(base, side)) parts.push(`${who} reordered the ${kind}s`);
+type IoKind = 'input' | 'output';
+
+function addEdit(kind: IoKind, name: string): TableEdit {
+  return kind === 'input' ? { kind: 'add-input', name } : { kind: 'add-output', name };
+}
+
+function deleteEdit(t: FlowTable, kind: IoKind, name: string): TableEdit {
+  const index = t[LIST[kind]].indexOf(name);
+  return kind === 'input' ? { kind: 'delete-input', index } : { kind: 'delete-output', index };
+}
+
+/** Reorders a table's inputs or outputs to `order` (the same names). */
+function reorderTo(t: FlowTable, kind: IoKind, order: string[]): FlowTable {
+  let out = t;
+  for (let i = 0; i < order.length; i++) {
+    const from = out[LIST[kind]].indexOf(order[i]!);
+    if (from !== i) out = applyEdit(out, kind === 'input' ? { kind: 'move-input', from, to: i } : { kind: 'move-output', from, to: i });
   }
-  return parts.length ? parts.join('; ') : null;
+  return out;
+}
+
+/** A cell named by its input values (inputs the table lacks are ignored; inputs it has that are not named count as 0). */
+function cellByInputs(t: FlowTable, state: string, values: ReadonlyMap<string, number>): string {
+  const s = t.states.indexOf(state);
+  if (s < 0) return '(no row)';
+  let column = 0;
+  t.inputs.forEach((name, k) => (column |= (values.get(name) ?? 0) << k));
+  return cellToText(t, s * countColumns(t.inputs.length) + column);
+}
+
+/** Whether `mine` changed any cell of `base` where input `name` is 1 (those cells go when the head deletes that input). */
+function changedWhereInputIsOne(base: FlowTable, mine: FlowTable, name: string): boolean {
+  const k = base.inputs.indexOf(name);
+  for (const state of base.states) {
+    if (!mine.states.includes(state)) continue;
+    for (let c = 0; c < countColumns(base.inputs.length); c++) {
+      if (!((c >> k) & 1)) continue;
+      const values = new Map(base.inputs.map((n, i) => [n, (c >> i) & 1] as const));
+      if (cellByInputs(base, state, values) !== cellByInputs(mine, state, values)) return true;
+    }
+  }
+  return false;
+}
+
+/**
+ * Inputs and outputs added or deleted on either side: each side's change is made on the other two
+ * tables (an added input starts unspecified where it is 1; a deleted one keeps the cells where it
+ * was 0), then base and mine take the head's order, so the cells match one by one.
+ */
+function alignInputsAndOutputs(base: FlowTable, mine: FlowTable, head: FlowTable, notes: string[]): { base: FlowTable; mine: FlowTable; head: FlowTable; applied: number } {
+  let [b, m, h] = [base, mine, head];
+  let applied = 0;
+  for (const kind of ['input', 'output'] as const) {
+    const list = LIST[kind];
+    const inBase = (x: string) => base[list].includes(x);
+    const inMine = (x: string) => mine[list].includes(x);
+    const inHead = (x: string) => head[list].includes(x);
+    for (const x of base[list]) {
+      if (inMine(x) && inHead(x)) continue;
+      if (!inMine(x) && inHead(x)) {
+        h = applyEdit(h, deleteEdit(h, kind, x)); // the user deleted it
+        applied++;
+      } else if (inMine(x) && !inHead(x)) {
+        if (kind === 'input' && changedWhereInputIsOne(b, m, x)) notes.push(`Your cells where input ${x} is 1 were not carried over: the newer revision deleted input ${x}.`);
+        m = applyEdit(m, deleteEdit(m, kind, x));
+      }
+      b = applyEdit(b, deleteEdit(b, kind, x));
+    }
+    for (const x of mine[list])
+      if (!inBase(x) && !inHead(x)) {
+        h = applyEdit(h, addEdit(kind, x)); // the user added it
+        b = applyEdit(b, addEdit(kind, x));
+        applied++;
+      }
+    for (const x of head[list])
+      if (!inBase(x)) {
+        if (!inMine(x)) m = applyEdit(m, addEdit(kind, x));
+        b = applyEdit(b, addEdit(kind, x));
+      }
+    b = reorderTo(b, kind, h[list]);
+    m = reorderTo(m, kind, h[list]);
+  }
+  return { base: b, mine: m, head: h, applied };
 }
 
 /** Carries the edits base→mine over to theirs. */
@@ -110,14 +179,20 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
     for (const [from, to] of renamed.skipped)
       notes.push(`Your rename of ${kind} ${from} to ${to} was not carried over: the newer revision ${out[LIST[kind]].includes(to) ? `already has a ${kind} ${to}` : `no longer has ${from}`}.`);
   }
-  const inputs = describeListChange('input', baseR.inputs, mine.inputs, out.inputs);
-  const outputs = describeListChange('output', baseR.outputs, mine.outputs, out.outputs);
-  if (inputs || outputs)
-    return { table: null, applied: 0, conflicts: [], notes, blocked: `${[inputs, outputs].filter(Boolean).join('; ')}, so cells cannot be matched one by one.` };
+  // 2. Inputs and outputs either side added or deleted.
+  let mineR: FlowTable;
+  try {
+    const aligned = alignInputsAndOutputs(baseR, mine, out, notes);
+    [baseR, mineR, out] = [aligned.base, aligned.mine, aligned.head];
+    applied += aligned.applied;
+  } catch (error) {
+    if (!(error instanceof EditError)) throw error;
+    return { table: null, applied: 0, conflicts: [], notes, blocked: `the inputs and outputs of both sides do not fit together: ${error.message}` };
+  }
 
-  // 2. States the user deleted: gone from the head too, unless the head changed that row meanwhile.
+  // 3. States the user deleted: gone from the head too, unless the head changed that row meanwhile.
   for (const s of baseR.states) {
-    if (mine.states.includes(s)) continue;
+    if (mineR.states.includes(s)) continue;
     const at = out.states.indexOf(s);
     if (at < 0) continue;
     if (!rowsEqual(baseR, out, s)) notes.push(`Your deletion of state ${s} was not carried over: the newer revision changed its row.`);
@@ -126,48 +201,48 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
       applied++;
     }
   }
-  // 3. States the user added (not in base) and that the head does not have yet.
-  for (const s of mine.states)
+  // 4. States the user added (not in base) and that the head does not have yet.
+  for (const s of mineR.states)
     if (!baseR.states.includes(s) && !out.states.includes(s)) {
       out = applyEdit(out, { kind: 'add-state', name: s });
       applied++;
     }
-  // 4. Cells, by state name and input key.
-  const keys = grayKeys(mine.inputs.length);
-  const cols = countColumns(mine.inputs.length);
+  // 5. Cells, by state name and input key.
+  const keys = grayKeys(mineR.inputs.length);
+  const cols = countColumns(mineR.inputs.length);
   const conflicts: ReapplyConflict[] = [];
-  for (const s of mine.states) {
+  for (const s of mineR.states) {
     const row = out.states.indexOf(s);
     if (row < 0) continue;
     for (const k of keys) {
-      const m = cellAt(mine, s, k);
+      const m = cellAt(mineR, s, k);
       const b = baseR.states.includes(s) ? cellAt(baseR, s, k) : '-';
       if (m === b) continue;
       const th = cellAt(out, s, k);
       if (th === m) continue;
       if (th !== b && th !== '(no row)') conflicts.push({ state: s, inputs: k, base: b, mine: m, theirs: th });
-      const mi = mine.states.indexOf(s) * cols + keyToColumn(k);
+      const mi = mineR.states.indexOf(s) * cols + keyToColumn(k);
       const cell = row * cols + keyToColumn(k);
-      const nx = mine.next[mi]!;
+      const nx = mineR.next[mi]!;
       if (nx === NONE) {
         out.next[cell] = NONE;
         out.outCare[cell] = 0;
         out.outValue[cell] = 0;
       } else {
-        const target = out.states.indexOf(mine.states[nx]!);
+        const target = out.states.indexOf(mineR.states[nx]!);
         if (target < 0) {
-          notes.push(`Your cell ${s} @ ${k} (${m}) was not carried over: the newer revision has no state ${mine.states[nx]}.`);
+          notes.push(`Your cell ${s} @ ${k} (${m}) was not carried over: the newer revision has no state ${mineR.states[nx]}.`);
           continue;
         }
         out.next[cell] = target;
-        const text = cellToText(mine, mi);
+        const text = cellToText(mineR, mi);
         setCellBits(out, cell, text.includes('/') ? text.slice(text.lastIndexOf('/') + 1) : '');
       }
       applied++;
     }
   }
-  // 5. The reset state, settings, description and scenarios the user changed.
-  const myReset = mine.states[mine.reset]!;
+  // 6. The reset state, settings, description and scenarios the user changed.
+  const myReset = mineR.states[mineR.reset]!;
   if (myReset !== baseR.states[baseR.reset] && out.states[out.reset] !== myReset) {
     const at = out.states.indexOf(myReset);
     if (at >= 0) {
@@ -175,15 +250,15 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
       applied++;
     }
   }
-  if (mine.settings.doubleChange !== base.settings.doubleChange) out.settings.doubleChange = mine.settings.doubleChange;
-  if (mine.settings.prefix !== base.settings.prefix) {
-    if (mine.settings.prefix) out.settings.prefix = mine.settings.prefix;
+  if (mineR.settings.doubleChange !== base.settings.doubleChange) out.settings.doubleChange = mineR.settings.doubleChange;
+  if (mineR.settings.prefix !== base.settings.prefix) {
+    if (mineR.settings.prefix) out.settings.prefix = mineR.settings.prefix;
     else delete out.settings.prefix;
   }
-  if (mine.description !== base.description) {
-    if (mine.description !== undefined) out.description = mine.description;
+  if (mineR.description !== base.description) {
+    if (mineR.description !== undefined) out.description = mineR.description;
     else delete out.description;
   }
-  for (const sc of mine.scenarios) if (!base.scenarios.some((b) => b.name === sc.name && b.inputs.join() === sc.inputs.join())) out = applyEdit(out, { kind: 'add-scenario', scenario: sc });
+  for (const sc of mineR.scenarios) if (!baseR.scenarios.some((b) => b.name === sc.name && b.inputs.join() === sc.inputs.join())) out = applyEdit(out, { kind: 'add-scenario', scenario: sc });
   return { table: out, applied, conflicts, notes, blocked: null };
 }

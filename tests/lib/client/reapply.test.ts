@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { reapplyEdits } from '../../../src/lib/client/reapply';
 import { applyEdit, type TableEdit } from '../../../src/lib/client/table-edits';
-import { cellToText, countColumns, keyToColumn, type FlowTable } from '../../../src/lib/engine/model';
+import { cellToText, countColumns, keyToColumn, LIMITS, type FlowTable } from '../../../src/lib/engine/model';
 import { doorInterlockTable } from '../../support/worked-examples';
 
 const base = doorInterlockTable();
@@ -91,12 +91,49 @@ describe('reapplyEdits', () => {
     expect(r.notes[0]).toBe('Your rename of state armed to ready was not carried over: the newer revision no longer has armed.');
   });
 
-  it('refuses a cell-by-cell merge when inputs or outputs were added or deleted, and says which', () => {
-    const mine = edit(base, { kind: 'add-input', name: 'estop' });
-    const r = reapplyEdits(base, mine, base);
+  it('merges an input the user added with the head’s cell edits: the new half keeps the user’s cells', () => {
+    const withStop = edit(base, { kind: 'add-input', name: 'estop' });
+    // Key order door_closed key estop: with estop at 1, open falls back to idle with unlock off.
+    const mine = edit(withStop, setCell(withStop, 'open', '111', 'idle', '0'), setCell(withStop, 'idle', '110', 'open', '-'));
+    const theirs = edit(base, setCell(base, 'armed', '10', 'idle', '0'));
+    const r = reapplyEdits(base, mine, theirs);
+    expect(r.blocked).toBeNull();
+    const t = r.table!;
+    expect(t.inputs).toEqual(['door_closed', 'key', 'estop']);
+    expect(cell(t, 'open', '111')).toBe('idle/0');
+    expect(cell(t, 'idle', '110')).toBe('open/-');
+    expect(cell(t, 'armed', '100')).toBe('idle/0'); // the head's edit, where estop is 0
+    expect(cell(t, 'armed', '101')).toBe('-');
+    expect(r.notes).toEqual([]);
+  });
+
+  it('merges an output the head added and an input the user deleted, in the head’s order', () => {
+    const theirs = edit(base, { kind: 'add-output', name: 'lamp' }, { kind: 'move-output', from: 1, to: 0 });
+    const mine = edit(base, setCell(base, 'idle', '11', 'open', '1'));
+    const r = reapplyEdits(base, mine, theirs);
+    expect(r.table!.outputs).toEqual(['lamp', 'unlock']);
+    expect(cell(r.table!, 'idle', '11')).toBe('open/-1');
+
+    const withoutKey = edit(base, { kind: 'delete-input', index: 1 });
+    const r2 = reapplyEdits(base, withoutKey, edit(base, setCell(base, 'armed', '10', 'armed', '0')));
+    expect(r2.table!.inputs).toEqual(['door_closed']);
+    expect(cell(r2.table!, 'armed', '1')).toBe('armed/0'); // the head's cell where key was 0 stays
+  });
+
+  it('says when the head deleted an input under cells the user changed', () => {
+    const mine = edit(base, setCell(base, 'idle', '11', 'open', '1'), setCell(base, 'armed', '10', 'idle', '0'));
+    const theirs = edit(base, { kind: 'delete-input', index: 1 });
+    const r = reapplyEdits(base, mine, theirs);
+    expect(r.table!.inputs).toEqual(['door_closed']);
+    expect(cell(r.table!, 'armed', '1')).toBe('idle/0'); // key was 0 there: carried
+    expect(r.notes).toEqual(['Your cells where input key is 1 were not carried over: the newer revision deleted input key.']);
+  });
+
+  it('refuses a merge whose inputs together exceed the limit, and says why', () => {
+    const names = Array.from({ length: LIMITS.inputs - base.inputs.length }, (_, i) => `in${i}`);
+    const mine = edit(base, ...names.map((name): TableEdit => ({ kind: 'add-input', name })));
+    const r = reapplyEdits(base, mine, edit(base, { kind: 'add-input', name: 'extra' }));
     expect(r.table).toBeNull();
-    expect(r.blocked).toBe('you added input estop, so cells cannot be matched one by one.');
-    const theirs = edit(base, { kind: 'add-output', name: 'lamp' });
-    expect(reapplyEdits(base, base, theirs).blocked).toBe('the newer revision added output lamp, so cells cannot be matched one by one.');
+    expect(r.blocked).toMatch(/^the inputs and outputs of both sides do not fit together: a table has at most 12 inputs/);
   });
 });
