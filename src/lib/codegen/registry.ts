@@ -9,10 +9,14 @@ import { TEMPLATE_SOURCES } from './template-sources';
 import type { CContext } from './targets/c';
 import type { RustContext } from './targets/rust';
 
-/** Text kept on one comment line: control characters and line separators become visible escapes. */
+// Control characters, line separators and text-direction controls: what must never reach generated
+// text raw (names cannot hold them, but comments also carry descriptions and messages).
+// eslint-disable-next-line no-control-regex
+const UNSAFE_IN_TEXT = /[\u0000-\u001f\u007f-\u009f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069\ufeff]/g;
+
+/** Text kept on one comment line: control characters, line separators and direction controls become visible escapes. */
 export function toCommentLine(text: string): string {
-  // eslint-disable-next-line no-control-regex
-  return text.replace(/[\u0000-\u001f\u007f\u0085\u2028\u2029]/g, (ch) => `\\u{${ch.codePointAt(0)!.toString(16)}}`);
+  return text.replace(UNSAFE_IN_TEXT, (ch) => `\\u{${ch.codePointAt(0)!.toString(16)}}`);
 }
 
 /** Text made safe inside a C block comment (one line, no comment openers or closers, no trigraphs). */
@@ -31,13 +35,13 @@ export function toCString(text: string): string {
   return `${s}"`;
 }
 
-/** A Rust string literal (UTF-8 kept, `"` and `\` escaped, control characters as `\u{..}`). */
+/** A Rust string literal (UTF-8 kept, `"` and `\` escaped, control and direction characters as `\u{..}`). */
 export function toRustString(text: string): string {
   let s = '"';
   for (const ch of text) {
     const code = ch.codePointAt(0)!;
     if (ch === '"' || ch === '\\') s += `\\${ch}`;
-    else if (code < 0x20 || code === 0x7f) s += `\\u{${code.toString(16)}}`;
+    else if (ch.search(UNSAFE_IN_TEXT) === 0) s += `\\u{${code.toString(16)}}`;
     else s += ch;
   }
   return `${s}"`;
@@ -57,13 +61,25 @@ export function toMarkdownText(text: string): string {
   // `_` only needs escaping where it could open or close emphasis: not inside a word
   return text
     .replace(/\r\n?/g, '\n')
+    .replace(UNSAFE_IN_TEXT, (ch) => (ch === '\n' || ch === '\t' ? ch : `\\u{${ch.codePointAt(0)!.toString(16)}}`))
     .replace(/([\\`*{}[\]<>#|~])/g, '\\$1')
     .replace(/(^|[^A-Za-z0-9])_|_(?=[^A-Za-z0-9]|$)/g, (m) => m.replace('_', '\\_'));
 }
 
-/** A TOML basic string. */
+const TOML_SHORT_ESCAPES: Record<string, string> = { '\b': '\\b', '\t': '\\t', '\n': '\\n', '\f': '\\f', '\r': '\\r' };
+
+/** A TOML basic string: control and direction characters as `\uXXXX`, a lone surrogate (no TOML spelling) as U+FFFD. */
 export function toTomlString(text: string): string {
-  return JSON.stringify(text);
+  let s = '"';
+  for (const ch of text) {
+    const code = ch.codePointAt(0)!;
+    if (ch === '"' || ch === '\\') s += `\\${ch}`;
+    else if (TOML_SHORT_ESCAPES[ch]) s += TOML_SHORT_ESCAPES[ch];
+    else if (ch.search(UNSAFE_IN_TEXT) === 0) s += `\\u${code.toString(16).padStart(4, '0')}`;
+    else if (code >= 0xd800 && code <= 0xdfff) s += '\\uFFFD';
+    else s += ch;
+  }
+  return `${s}"`;
 }
 
 /** Templates per target, in the order they are rendered, with the path of the file each produces. */

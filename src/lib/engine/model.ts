@@ -44,7 +44,14 @@ export const scenarioSchema = z
 /** A saved simulator run. */
 export type Scenario = z.infer<typeof scenarioSchema>;
 
-const NAME_HINT = 'names are 1 to 64 characters with no "/", no control characters and no leading or trailing space';
+/** The rule every state, input and output name follows, as error messages state it. */
+export const NAME_RULES = 'names are 1 to 64 characters with no "/", no control or text-direction characters and no leading or trailing space';
+
+// Control characters (C0, DEL, C1), line and paragraph separators, the byte-order mark, and the
+// text-direction controls: a name holding a direction override can make generated code and the
+// review screens read differently from what they are, and rustc refuses them in comments and strings.
+// eslint-disable-next-line no-control-regex
+const FORBIDDEN_IN_NAMES = /[\u0000-\u001f\u007f-\u009f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069\ufeff\ufffd/]/;
 
 // `__proto__` would silently vanish as an object key, and U+FFFD is what undecodable bytes become.
 const RESERVED_NAMES = new Set(['__proto__']);
@@ -52,10 +59,9 @@ const RESERVED_NAMES = new Set(['__proto__']);
 /** Schema of one state, input or output name. */
 export const nameSchema = z
   .string()
-  .min(1, NAME_HINT)
-  .max(LIMITS.nameLength, NAME_HINT)
-  // eslint-disable-next-line no-control-regex
-  .refine((s) => !/[\u0000-\u001f\u007f/\ufffd]/.test(s) && s.trim() === s, NAME_HINT)
+  .min(1, NAME_RULES)
+  .max(LIMITS.nameLength, NAME_RULES)
+  .refine((s) => !FORBIDDEN_IN_NAMES.test(s) && s.trim() === s, NAME_RULES)
   .refine((s) => !RESERVED_NAMES.has(s), (s) => ({ message: `"${s}" is reserved and cannot be a name` }));
 
 /** The JSON interchange document, version 1 (DESIGN.md §4). */

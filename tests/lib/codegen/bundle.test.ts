@@ -4,9 +4,9 @@
  */
 import { spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import JSZip from 'jszip';
 import canonicalize from 'canonicalize';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -14,7 +14,7 @@ import { generateBundle, ZIP_DATE } from '../../../src/lib/codegen/bundle';
 import { GENERATOR_VERSION } from '../../../src/lib/codegen/options';
 import { SAFETY_CAUTION } from '../../../src/lib/codegen/targets/common';
 import { readTemplateFiles, renderTemplateModule } from '../../../src/lib/codegen/embed-templates';
-import { tableToInterchange } from '../../../src/lib/engine/model';
+import { cloneTable, tableToInterchange } from '../../../src/lib/engine/model';
 import pkg from '../../../package.json';
 import { loadDemoTables } from './support';
 
@@ -115,6 +115,27 @@ describe('generateBundle', () => {
     expect(a.sha256).not.toBe(b.sha256);
     expect(a.manifest.sourceSha256).toBe(b.manifest.sourceSha256);
   });
+
+  it('writes no raw control, separator or text-direction character, even from a description and scenario names, and the crate still builds', async () => {
+    // Names cannot hold these (model.ts), but the description and scenario names are free text.
+    const hidden = '\u202e\u2066\u0085\u2028\u007f\u001b\ufeff';
+    const t = cloneTable(press);
+    t.description = `Two-hand press${hidden} control.\nSecond line.`;
+    t.scenarios = [...t.scenarios, { name: `both hands${hidden}`, inputs: [t.scenarios[0]!.inputs[0]!] }];
+    for (const target of ['c', 'rust'] as const) {
+      const b = await generateBundle(t, { target });
+      for (const f of b.files) expect(f.content, `${target}/${f.path}`).not.toMatch(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069\ufeff]/);
+      if (target !== 'rust') continue;
+      const dir = join(work, 'hidden-rust');
+      for (const f of b.files) {
+        mkdirSync(dirname(join(dir, f.path)), { recursive: true });
+        writeFileSync(join(dir, f.path), f.content);
+      }
+      // rustc denies direction controls in comments and literals; cargo refuses a malformed Cargo.toml.
+      const check = spawnSync('cargo', ['test', '--offline', '--quiet'], { cwd: dir, encoding: 'utf8', env: { ...process.env, CARGO_TARGET_DIR: join(work, 'hidden-target') } });
+      expect(check.status, `${check.stdout}\n${check.stderr}`).toBe(0);
+    }
+  }, 180_000);
 
   it('rejects bad options with the zod message', async () => {
     await expect(generateBundle(press, { target: 'c', revision: 'r 3' })).rejects.toThrow(/revision label/);

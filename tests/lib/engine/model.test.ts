@@ -62,4 +62,16 @@ describe('interchange model', () => {
     expect(issuesOf({ ...door, states: ['x'.repeat(65)] })[0]).toMatch(/^states\[0\]: names are 1 to 64/);
     expect(issuesOf(null)[0]).toMatch(/^\(document\)/);
   });
+
+  it('refuses names with control, separator or text-direction characters, which could make code read other than it is', () => {
+    // Direction overrides and isolates, the marks, C1 controls, line/paragraph separators and the BOM
+    // (Unicode Standard Annex #9 lists the direction controls; the others are common practice, no source).
+    const hidden = ['\u202e', '\u202a', '\u2066', '\u2069', '\u200f', '\u061c', '\u0085', '\u009b', '\u2028', '\u2029', '\ufeff', '\u007f'];
+    for (const ch of hidden) {
+      const name = `armed${ch}x`;
+      expect(issuesOf({ ...door, states: ['idle', name, 'open'] })[0], `U+${ch.codePointAt(0)!.toString(16)}`).toMatch(/^states\[1\]: names are .*no control or text-direction characters/);
+    }
+    // Letters of right-to-left scripts are names like any other; only the invisible controls are refused.
+    expect(() => interchangeToTable({ ...door, inputs: ['door_closed', 'מפתח'], rows: {} })).not.toThrow();
+  });
 });

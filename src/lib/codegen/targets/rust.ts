@@ -1,7 +1,7 @@
 /** The Rust target: its literal syntax, the Rust-only context fields, and the files it renders. */
 import type { CompiledMachine } from '../compile';
 import type { CodegenOptions } from '../options';
-import { TEMPLATES } from '../registry';
+import { TEMPLATES, toCommentLine } from '../registry';
 import { collectHeaderFacts, commonContext, renderTargetFiles, type CommonContext, type TargetSyntax } from './common';
 
 /** Everything templates/rust renders from. */
@@ -21,7 +21,7 @@ export const RUST_SYNTAX: TargetSyntax = {
   suffix: '',
   tuple: (fields) => `(${fields.join(', ')})`,
   commentStyle: 'rust',
-  rowComment: (name) => name,
+  rowComment: toCommentLine,
   vectorIndent: '        ',
   powerUpPerLine: 4,
 };

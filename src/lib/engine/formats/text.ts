@@ -12,6 +12,7 @@ import {
   grayKeys,
   keyToColumn,
   LIMITS,
+  NAME_RULES,
   nearestName,
   NONE,
   settingsSchema,
@@ -36,7 +37,6 @@ interface Token {
   restCol: number;
 }
 
-const NAME_RULES = 'names are 1 to 64 characters with no "/", no control characters and no leading or trailing space';
 const QUOTE_HINT = (v: string) => `write it as a JSON string: ${JSON.stringify(v)}`;
 
 /** Reads a JSON string starting at the quote at `start`; returns its value and the index after it. */
