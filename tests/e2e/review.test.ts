@@ -226,6 +226,16 @@ describe('review and release (Chromium, built server)', () => {
     expect(wrong.stdout).toBe('404');
   });
 
+  it('runs the README’s CI lines as written, against the demo’s seeded release', async () => {
+    const readme = fs.readFileSync(path.join(import.meta.dirname, '../../README.md'), 'utf8');
+    const script = readme.match(/A CI job, with the demo key[^\n]*\n\n```sh\n([\s\S]*?)```/)?.[1];
+    expect(script).toBeDefined();
+    const dir = fs.mkdtempSync(path.join(tmp, 'readme-'));
+    const { stdout } = await run('bash', ['-euo', 'pipefail', '-c', script!.replaceAll('http://127.0.0.1:4321', server.url)], { cwd: dir });
+    expect(stdout).toMatch(/two-hand-press-r1-c\.zip: OK/);
+    expect(fs.readdirSync(dir)).toEqual(['two-hand-press-r1-c.zip']);
+  });
+
   it('shows the API page with the demo key and the keys page to the owner', async () => {
     await signOut(page);
     await signIn(page, 'owner');

@@ -118,6 +118,8 @@ describe('controller workbench (Chromium, built server)', () => {
   it('marks a bad cell in the source with its message, and completes state names', async () => {
     await openView('Source');
     const lines = page.locator('[data-testid="source-editor"] .view-lines');
+    // The editor renders its lines after the view opens: wait for the row this test edits.
+    await expect.poll(() => sourceText(), { timeout: 30_000 }).toMatch(/\n\s*a\s+c\/-\s+a\/0\s+b\/-\s+-/);
     const before = await sourceText();
     const broken = before.replace(/(\n\s*a\s+c\/-\s+a\/0\s+b\/-\s+)-/, '$1zz/0');
     expect(broken).not.toBe(before);

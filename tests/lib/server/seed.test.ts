@@ -5,7 +5,10 @@ import { ciKeyToHash } from '../../../src/lib/server/ci-keys';
 import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { DEMO_ACCOUNTS, DEMO_CI_KEY, DEMO_WORKSPACE } from '../../../src/lib/server/demo/accounts';
 import { DEMO_CONTROLLERS } from '../../../src/lib/server/demo/controllers';
-import { seedDemo } from '../../../src/lib/server/demo/seed';
+import { DEMO_RELEASE, seedDemo } from '../../../src/lib/server/demo/seed';
+import { answerDownload } from '../../../src/lib/server/downloads';
+import { listHistory } from '../../../src/lib/server/history';
+import { listOutbox } from '../../../src/lib/server/mail';
 import { requireMember } from '../../../src/lib/server/permissions';
 import { ciKeys, controllers, revisions } from '../../../src/lib/server/schema';
 import { analyzeTable } from '../../../src/lib/engine/analyze';
@@ -63,5 +66,18 @@ describe.each(BACKENDS)('demo seed on $name', (backend) => {
     expect(keys[0]!.keyHash).not.toContain(DEMO_CI_KEY.value);
     expect(DEMO_CI_KEY.value.startsWith(keys[0]!.prefix)).toBe(true);
     expect(keys[0]!.controllerIds).toBeNull();
+  });
+
+  it('starts with one controller reviewed, approved and released, downloadable by the demo key as latest-release', async () => {
+    const [press] = await handle.db.select().from(controllers).where(eq(controllers.slug, DEMO_RELEASE.controller));
+    const history = await listHistory(handle.db, press!.id);
+    expect(history[0]).toMatchObject({ number: 1, review: 'approved', releases: [DEMO_RELEASE.label] });
+    const answer = await answerDownload(handle.db, { bearer: DEMO_CI_KEY.value, userId: null }, { what: 'bundle', method: 'GET', params: { workspace: DEMO_WORKSPACE.slug, controller: DEMO_RELEASE.controller, rev: 'latest-release' }, search: '?target=c', ifNoneMatch: null });
+    expect(answer.status).toBe(200);
+    expect(answer.headers['X-Quiesce-Release']).toBe(DEMO_RELEASE.label);
+    expect(answer.headers.ETag).toBe(`"${history[0]!.bundles.c}"`);
+    // The review went through the outbox like any other: a request to the reviewer, a verdict to the author.
+    const subjects = (await listOutbox(handle.db, { limit: 10 })).map((m) => m.subject);
+    expect(subjects).toEqual(expect.arrayContaining([expect.stringMatching(/^Review requested: Two-hand control/), expect.stringMatching(/approved/i)]));
   });
 });

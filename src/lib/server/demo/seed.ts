@@ -1,17 +1,30 @@
 /** Seeds the demo workspace on the first start of an empty database in demo mode. */
+import { eq } from 'drizzle-orm';
 import { analyzeTable } from '../../engine/analyze';
 import { tableToText } from '../../engine/formats/text';
 import { interchangeToTable, tableToInterchange } from '../../engine/model';
 import { recordAudit } from '../audit';
 import { ciKeyToHash, ciKeyToPrefix } from '../ci-keys';
+import { readConfig } from '../config';
+import { requireController } from '../controllers';
 import type { Db } from '../db';
 import { newId } from '../ids';
 import { hashPassword } from '../passwords';
+import { requireMember } from '../permissions';
+import { publishRelease } from '../releases';
+import { decideReview, requestReview } from '../reviews';
 import { ciKeys, controllers, memberships, revisions, users, workspaces } from '../schema';
 import { DEMO_ACCOUNTS, DEMO_CI_KEY, DEMO_WORKSPACE } from './accounts';
 import { DEMO_CONTROLLERS } from './controllers';
 
-/** Inserts demo users, the demo workspace, its controllers (r1 each) and the demo CI key. */
+/** The demo controller that starts out reviewed, approved and released, so the CI download lines work at once. */
+export const DEMO_RELEASE = { controller: 'two-hand-press', label: '1.0.0' } as const;
+
+/**
+ * Inserts demo users, the demo workspace, its controllers (r1 each) and the demo CI key, then
+ * takes one controller through review to a release with the same functions the app uses (so the
+ * outbox holds the review mails, and the release pins real bundles).
+ */
 export async function seedDemo(db: Db): Promise<void> {
   const hashes = await Promise.all(DEMO_ACCOUNTS.map((a) => hashPassword(a.password)));
   await db.transaction(async (tx) => {
@@ -74,4 +87,20 @@ export async function seedDemo(db: Db): Promise<void> {
     });
     await recordAudit(tx, { workspaceId, actorUserId: ownerId, action: 'workspace.created', target: `workspace:${DEMO_WORKSPACE.slug}`, detail: { demo: true } });
   });
+  await releaseDemoController(db);
+}
+
+async function releaseDemoController(db: Db): Promise<void> {
+  const idOf = async (role: 'editor' | 'reviewer') => {
+    const email = DEMO_ACCOUNTS.find((a) => a.role === role)!.email;
+    const [row] = await db.select({ id: users.id }).from(users).where(eq(users.email, email));
+    return requireMember(db, row!.id, DEMO_WORKSPACE.slug);
+  };
+  const editor = await idOf('editor');
+  const reviewer = await idOf('reviewer');
+  const controller = await requireController(db, editor.workspace.id, DEMO_RELEASE.controller);
+  const link = { origin: readConfig().publicOrigin ?? `http://127.0.0.1:${process.env.PORT ?? 4321}`, workspaceSlug: DEMO_WORKSPACE.slug };
+  await requestReview(db, editor, controller, 1, { note: 'Power-up lockout and both-hands timing as in the safety concept.' }, link);
+  await decideReview(db, reviewer, controller, 1, { verdict: 'approve', comment: 'Checked against the safety concept; outputs only on both hands.' }, link);
+  await publishRelease(db, reviewer, controller, { revision: 1, label: DEMO_RELEASE.label, notes: 'First release for the RP-2 press (demo data).' });
 }
