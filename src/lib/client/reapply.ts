@@ -73,6 +73,14 @@ function applyRenames(t: FlowTable, kind: NameKind, pairs: [string, string][]): 
   return { table: out, skipped };
 }
 
+/** How many cells of a table lead to `state`. */
+function countCellsInto(t: FlowTable, state: string): number {
+  const target = t.states.indexOf(state);
+  let n = 0;
+  for (let i = 0; i < t.next.length; i++) if (t.next[i] === target) n++;
+  return n;
+}
+
 function rowsEqual(a: FlowTable, b: FlowTable, state: string): boolean {
   return grayKeys(a.inputs.length).every((k) => cellAt(a, state, k) === cellAt(b, state, k));
 }
@@ -110,12 +118,13 @@ function cellByInputs(t: FlowTable, state: string, values: ReadonlyMap<string, n
 /** Whether `mine` changed any cell of `base` where input `name` is 1 (those cells go when the head deletes that input). */
 function changedWhereInputIsOne(base: FlowTable, mine: FlowTable, name: string): boolean {
   const k = base.inputs.indexOf(name);
-  for (const state of base.states) {
-    if (!mine.states.includes(state)) continue;
+  // Rows the user added count too: against base they are all unspecified.
+  for (const state of mine.states) {
     for (let c = 0; c < countColumns(base.inputs.length); c++) {
       if (!((c >> k) & 1)) continue;
       const values = new Map(base.inputs.map((n, i) => [n, (c >> i) & 1] as const));
-      if (cellByInputs(base, state, values) !== cellByInputs(mine, state, values)) return true;
+      const before = base.states.includes(state) ? cellByInputs(base, state, values) : '-';
+      if (before !== cellByInputs(mine, state, values)) return true;
     }
   }
   return false;
@@ -169,6 +178,8 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
   // 1. Renames first, on the base and the head alike, so that every later step matches by the user's names.
   let baseR = base;
   let out = cloneTable(theirs);
+  // The user's rows that have no counterpart in the head (a rename the head made impossible).
+  const unmatchedRows = new Set<string>();
   for (const kind of ['input', 'output', 'state'] as const) {
     const pairs = findRenames(base[LIST[kind]], mine[LIST[kind]]);
     if (!pairs.length) continue;
@@ -176,6 +187,7 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
     const renamed = applyRenames(out, kind, pairs);
     out = renamed.table;
     applied += pairs.length - renamed.skipped.length;
+    if (kind === 'state') for (const [, to] of renamed.skipped) unmatchedRows.add(to);
     for (const [from, to] of renamed.skipped)
       notes.push(`Your rename of ${kind} ${from} to ${to} was not carried over: the newer revision ${out[LIST[kind]].includes(to) ? `already has a ${kind} ${to}` : `no longer has ${from}`}.`);
   }
@@ -196,6 +208,7 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
     const at = out.states.indexOf(s);
     if (at < 0) continue;
     if (!rowsEqual(baseR, out, s)) notes.push(`Your deletion of state ${s} was not carried over: the newer revision changed its row.`);
+    else if (countCellsInto(out, s) > countCellsInto(baseR, s)) notes.push(`Your deletion of state ${s} was not carried over: the newer revision added transitions into it.`);
     else if (out.states.length > 1) {
       out = applyEdit(out, { kind: 'delete-state', index: at });
       applied++;
@@ -213,7 +226,11 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
   const conflicts: ReapplyConflict[] = [];
   for (const s of mineR.states) {
     const row = out.states.indexOf(s);
-    if (row < 0) continue;
+    if (unmatchedRows.has(s)) continue;
+    if (row < 0) {
+      if (baseR.states.includes(s) && !rowsEqual(baseR, mineR, s)) notes.push(`Your edits of state ${s} were not carried over: the newer revision no longer has that state.`);
+      continue;
+    }
     for (const k of keys) {
       const m = cellAt(mineR, s, k);
       const b = baseR.states.includes(s) ? cellAt(baseR, s, k) : '-';

@@ -175,6 +175,7 @@ export function applyEdit(t: FlowTable, e: TableEdit): FlowTable {
       return rebuild(t, { states, inputs: t.inputs, outputs: t.outputs, reset: newOf(t.reset) }, { state: oldOf, column: identity, next: newOf, bits: sameBits });
     }
     case 'rename-state': {
+      if (!Number.isInteger(e.index) || e.index < 0 || e.index >= t.states.length) throw new EditError('no such state');
       ensureName(e.name, t.states, 'state', e.index);
       const out = cloneTable(t);
       out.states[e.index] = e.name;
@@ -216,6 +217,7 @@ export function applyEdit(t: FlowTable, e: TableEdit): FlowTable {
       });
     }
     case 'rename-input': {
+      if (!Number.isInteger(e.index) || e.index < 0 || e.index >= t.inputs.length) throw new EditError('no such input');
       ensureName(e.name, t.inputs, 'input', e.index);
       const out = cloneTable(t);
       out.inputs[e.index] = e.name;
@@ -248,6 +250,7 @@ export function applyEdit(t: FlowTable, e: TableEdit): FlowTable {
       return out;
     }
     case 'rename-output': {
+      if (!Number.isInteger(e.index) || e.index < 0 || e.index >= t.outputs.length) throw new EditError('no such output');
       ensureName(e.name, t.outputs, 'output', e.index);
       const out = cloneTable(t);
       out.outputs[e.index] = e.name;

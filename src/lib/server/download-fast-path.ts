@@ -4,8 +4,8 @@
  * revision, pinned bundle: epoch-checked, see download-cache.ts) and the bundle's bytes are in
  * process memory, and a repeat is answered here straight onto the node response, before the
  * framework's per-request pipeline, which costs more than the download itself. Anything not
- * fully cached (another URL, a session cookie, a revoked key, evicted bytes, a bad query)
- * returns false and the app answers it, with every guard of the route.
+ * fully cached (no bearer key, another URL, a percent-encoded path, a revoked key, evicted
+ * bytes, a bad query) returns false and the app answers it, with every guard of the route.
  */
 import type { IncomingMessage, ServerResponse } from 'node:http';
 import { bearerOfHeader } from './ci-keys';
@@ -30,16 +30,15 @@ function serveCachedDownload(req: IncomingMessage, res: ServerResponse, openDb: 
   const bearer = bearerOfHeader(req.headers.authorization);
   if (!bearer) return false;
   const q = url.indexOf('?');
-  const match = BUNDLE_ROUTE.exec(q < 0 ? url : url.slice(0, q));
+  const pathname = q < 0 ? url : url.slice(0, q);
+  const match = BUNDLE_ROUTE.exec(pathname);
   if (!match) return false;
   const what = match[4] as DownloadKind;
   if (what === 'bundle.sha256' && method === 'HEAD') return false;
-  let params: { workspace: string; controller: string; rev: string };
-  try {
-    params = { workspace: decodeURIComponent(match[1]!), controller: decodeURIComponent(match[2]!), rev: decodeURIComponent(match[3]!) };
-  } catch {
-    return false;
-  }
+  // Percent-encoded paths go to the app, whose router decodes them its own way (e.g. it keeps
+  // %3A); CI sends plain slugs and labels.
+  if (pathname.includes('%')) return false;
+  const params = { workspace: match[1]!, controller: match[2]!, rev: match[3]! };
   const answer = answerCachedDownload(bearer, { what, method, params, search: q < 0 ? '' : url.slice(q), ifNoneMatch: req.headers['if-none-match'] ?? null });
   if (!answer) return false;
   res.writeHead(answer.status, { ...SECURITY_HEADERS, ...answer.headers });

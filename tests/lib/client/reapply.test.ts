@@ -136,4 +136,31 @@ describe('reapplyEdits', () => {
     expect(r.table).toBeNull();
     expect(r.blocked).toMatch(/^the inputs and outputs of both sides do not fit together: a table has at most 12 inputs/);
   });
+  it('never drops the user’s row edits silently when the head removed, re-aimed or took the name of that state', () => {
+    // The head deleted `open`, whose row the user edited.
+    const editedOpen = edit(base, setCell(base, 'open', '00', 'idle', '0'));
+    const gone = reapplyEdits(base, editedOpen, edit(base, { kind: 'delete-state', index: 2 }));
+    expect(gone.notes).toEqual(['Your edits of state open were not carried over: the newer revision no longer has that state.']);
+    // The user deleted `open`, but the head added a transition into it: deleting would clear it.
+    const deleted = edit(base, { kind: 'delete-state', index: 2 });
+    const intoOpen = reapplyEdits(base, deleted, edit(base, setCell(base, 'idle', '11', 'open', '0')));
+    expect(intoOpen.table!.states).toContain('open');
+    expect(cell(intoOpen.table!, 'idle', '11')).toBe('open/0');
+    expect(intoOpen.notes).toEqual(['Your deletion of state open was not carried over: the newer revision added transitions into it.']);
+    // The user renamed armed to ready and edited it; the head already has its own `ready`.
+    const renamed = edit(base, { kind: 'rename-state', index: 1, name: 'ready' });
+    const mine = edit(renamed, setCell(renamed, 'ready', '10', 'idle', '0'));
+    const withReady = edit(base, { kind: 'add-state', name: 'ready' });
+    const clash = reapplyEdits(base, mine, withReady);
+    expect(cell(clash.table!, 'ready', '10')).toBe('-'); // the head's unrelated `ready` is left alone
+    expect(clash.notes[0]).toBe('Your rename of state armed to ready was not carried over: the newer revision already has a state ready.');
+  });
+
+  it('names the cells of a state the user added that an input the head deleted takes away', () => {
+    const withHeld = edit(base, { kind: 'add-state', name: 'held' });
+    const mine = edit(withHeld, setCell(withHeld, 'held', '01', 'held', '0'));
+    const r = reapplyEdits(base, mine, edit(base, { kind: 'delete-input', index: 1 }));
+    expect(r.table!.states).toContain('held');
+    expect(r.notes).toEqual(['Your cells where input key is 1 were not carried over: the newer revision deleted input key.']);
+  });
 });

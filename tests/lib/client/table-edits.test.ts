@@ -82,6 +82,8 @@ describe('applyEdit', () => {
 
   it('refuses duplicate and malformed names with a readable message', () => {
     expect(() => applyEdit(t, { kind: 'rename-state', index: 0, name: 'armed' })).toThrow(/already a state named "armed"/);
+    expect(() => applyEdit(t, { kind: 'rename-input', index: 2, name: 'light' })).toThrow(EditError); // only 2 inputs
+    expect(() => applyEdit(t, { kind: 'rename-output', index: -1, name: 'lamp' })).toThrow(/no such output/);
     expect(checkName('a/b', [], 'state')).toMatch(/no "\/"/);
     expect(checkName('-', [], 'state')).toMatch(/unspecified/);
     expect(proposeName('s', ['s1', 's2', 's4'])).toBe('s5');

@@ -66,12 +66,14 @@ describe('interchange model', () => {
   it('refuses names with control, separator or text-direction characters, which could make code read other than it is', () => {
     // Direction overrides and isolates, the marks, C1 controls, line/paragraph separators and the BOM
     // (Unicode Standard Annex #9 lists the direction controls; the others are common practice, no source).
-    const hidden = ['\u202e', '\u202a', '\u2066', '\u2069', '\u200f', '\u061c', '\u0085', '\u009b', '\u2028', '\u2029', '\ufeff', '\u007f'];
+    // Also invisible fillers (a name with U+200B looks like one without) and a lone surrogate (no JSON for it).
+    const hidden = ['\u202e', '\u202a', '\u2066', '\u2069', '\u200f', '\u061c', '\u0085', '\u009b', '\u2028', '\u2029', '\ufeff', '\u007f', '\u200b', '\u00ad', '\u2060', '\u{e0041}', '\ud800'];
     for (const ch of hidden) {
       const name = `armed${ch}x`;
-      expect(issuesOf({ ...door, states: ['idle', name, 'open'] })[0], `U+${ch.codePointAt(0)!.toString(16)}`).toMatch(/^states\[1\]: names are .*no control or text-direction characters/);
+      expect(issuesOf({ ...door, states: ['idle', name, 'open'] })[0], `U+${ch.codePointAt(0)!.toString(16)}`).toMatch(/^states\[1\]: names are .*no control, invisible or text-direction characters/);
     }
     // Letters of right-to-left scripts are names like any other; only the invisible controls are refused.
     expect(() => interchangeToTable({ ...door, inputs: ['door_closed', 'מפתח'], rows: {} })).not.toThrow();
+    expect(() => interchangeToTable({ ...door, inputs: ['door_closed', 'key😀', 'می\u200cخواهم'], rows: {} })).not.toThrow(); // a surrogate pair and ZWNJ are fine
   });
 });

@@ -109,6 +109,7 @@ describe.each(BACKENDS)('download fast path on $name', (backend) => {
     await passes(`${path('1')}?target=c`, auth); // another revision
     await passes(`${path('latest')}/?target=c`, auth);
     await passes(`${path('%E0%A4%A')}?target=c`, auth); // undecodable
+    await passes(`/api/v1/workspaces/${world.slug}/controllers/${door.slug.replace('-', '%2D')}/revisions/latest/bundle?target=c`, auth); // encoded: the router decodes
     await passes(`${path('latest')}?target=c`, auth, 'POST');
     await passes(`${path('latest', 'bundle.sha256')}?target=c`, auth, 'HEAD');
   });
