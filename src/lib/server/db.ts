@@ -198,10 +198,13 @@ export function getDatabase(): Promise<DatabaseHandle> {
       url: config.databaseUrl ?? undefined,
       dataDir: config.databaseUrl ? undefined : config.dataDir,
       afterMigrate: async (db, { wasEmpty }) => {
-        if (config.demo && wasEmpty) {
-          const { seedDemo } = await import('./demo/seed');
-          await seedDemo(db);
-        }
+        if (!config.demo) return;
+        const { ensureDemoRelease, seedDemo } = await import('./demo/seed');
+        if (wasEmpty) await seedDemo(db);
+        else
+          await ensureDemoRelease(db).catch((error: unknown) => {
+            console.error('[quiesce] finishing the demo release failed; the app runs without it:', error instanceof Error ? error.message : error);
+          });
       },
     }).then((handle) => {
       installShutdown(handle);

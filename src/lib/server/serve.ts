@@ -5,7 +5,9 @@
  * and the benchmarks all run this file; dist/server/entry.mjs alone still runs the app, without
  * the fast path.
  */
+import fs from 'node:fs';
 import http from 'node:http';
+import https from 'node:https';
 import { getDb } from './db';
 import { createDownloadFastPath } from './download-fast-path';
 
@@ -23,7 +25,7 @@ async function startServer(): Promise<void> {
   const host = process.env.HOST ?? configured ?? '127.0.0.1';
   const port = process.env.PORT ? Number(process.env.PORT) : (options.port ?? 4321);
   const fastPath = createDownloadFastPath(getDb);
-  const server = http.createServer((req, res) => {
+  const listener = (req: http.IncomingMessage, res: http.ServerResponse) => {
     try {
       if (fastPath(req, res)) return;
     } catch (error) {
@@ -31,14 +33,18 @@ async function startServer(): Promise<void> {
       if (res.headersSent) return void res.destroy();
     }
     handler(req, res);
-  });
+  };
+  // Like the node adapter's own server: TLS when both files are given (usually a proxy terminates it).
+  const cert = process.env.SERVER_CERT_PATH;
+  const key = process.env.SERVER_KEY_PATH;
+  const server = cert && key ? https.createServer({ cert: fs.readFileSync(cert), key: fs.readFileSync(key) }, listener) : http.createServer(listener);
   server.on('error', (error) => {
     console.error(`[quiesce] the server could not listen on ${host}:${port}: ${error.message}`);
     process.exit(1);
   });
   server.listen(port, host, () => {
     const shown = host.includes(':') ? `[${host}]` : host;
-    console.log(`[quiesce] listening on http://${shown}:${port}`);
+    console.log(`[quiesce] listening on ${cert && key ? 'https' : 'http'}://${shown}:${port}`);
   });
 }
 

@@ -5,12 +5,12 @@ import { ciKeyToHash } from '../../../src/lib/server/ci-keys';
 import type { DatabaseHandle } from '../../../src/lib/server/db';
 import { DEMO_ACCOUNTS, DEMO_CI_KEY, DEMO_WORKSPACE } from '../../../src/lib/server/demo/accounts';
 import { DEMO_CONTROLLERS } from '../../../src/lib/server/demo/controllers';
-import { DEMO_RELEASE, seedDemo } from '../../../src/lib/server/demo/seed';
+import { DEMO_RELEASE, ensureDemoRelease, seedDemo } from '../../../src/lib/server/demo/seed';
 import { answerDownload } from '../../../src/lib/server/downloads';
 import { listHistory } from '../../../src/lib/server/history';
 import { listOutbox } from '../../../src/lib/server/mail';
 import { requireMember } from '../../../src/lib/server/permissions';
-import { ciKeys, controllers, revisions } from '../../../src/lib/server/schema';
+import { ciKeys, controllers, releases, reviews, revisions } from '../../../src/lib/server/schema';
 import { analyzeTable } from '../../../src/lib/engine/analyze';
 import { parseText } from '../../../src/lib/engine/formats/text';
 import { interchangeToTable, tablesEqual } from '../../../src/lib/engine/model';
@@ -79,5 +79,18 @@ describe.each(BACKENDS)('demo seed on $name', (backend) => {
     // The review went through the outbox like any other: a request to the reviewer, a verdict to the author.
     const subjects = (await listOutbox(handle.db, { limit: 10 })).map((m) => m.subject);
     expect(subjects).toEqual(expect.arrayContaining([expect.stringMatching(/^Review requested: Two-hand control/), expect.stringMatching(/approved/i)]));
+  });
+
+  it('finishes the demo release on a later start when the first one stopped before it, and never redoes it', async () => {
+    const [press] = await handle.db.select().from(controllers).where(eq(controllers.slug, DEMO_RELEASE.controller));
+    const releasesBefore = await handle.db.select().from(releases).where(eq(releases.controllerId, press!.id));
+    await ensureDemoRelease(handle.db); // already released: nothing happens
+    expect(await handle.db.select().from(releases).where(eq(releases.controllerId, press!.id))).toEqual(releasesBefore);
+    // A start that died after the seed's transaction: no review and no release yet.
+    await handle.db.delete(releases).where(eq(releases.controllerId, press!.id));
+    const revisionIds = (await handle.db.select({ id: revisions.id }).from(revisions).where(eq(revisions.controllerId, press!.id))).map((r) => r.id);
+    for (const id of revisionIds) await handle.db.delete(reviews).where(eq(reviews.revisionId, id));
+    await ensureDemoRelease(handle.db);
+    expect((await handle.db.select().from(releases).where(eq(releases.controllerId, press!.id))).map((r) => r.label)).toEqual([DEMO_RELEASE.label]);
   });
 });

@@ -1,5 +1,5 @@
 /** Seeds the demo workspace on the first start of an empty database in demo mode. */
-import { eq } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import { analyzeTable } from '../../engine/analyze';
 import { tableToText } from '../../engine/formats/text';
 import { interchangeToTable, tableToInterchange } from '../../engine/model';
@@ -13,7 +13,7 @@ import { hashPassword } from '../passwords';
 import { requireMember } from '../permissions';
 import { publishRelease } from '../releases';
 import { decideReview, requestReview } from '../reviews';
-import { ciKeys, controllers, memberships, revisions, users, workspaces } from '../schema';
+import { ciKeys, controllers, memberships, releases, reviews, revisions, users, workspaces } from '../schema';
 import { DEMO_ACCOUNTS, DEMO_CI_KEY, DEMO_WORKSPACE } from './accounts';
 import { DEMO_CONTROLLERS } from './controllers';
 
@@ -87,10 +87,25 @@ export async function seedDemo(db: Db): Promise<void> {
     });
     await recordAudit(tx, { workspaceId, actorUserId: ownerId, action: 'workspace.created', target: `workspace:${DEMO_WORKSPACE.slug}`, detail: { demo: true } });
   });
-  await releaseDemoController(db);
+  await ensureDemoRelease(db);
 }
 
-async function releaseDemoController(db: Db): Promise<void> {
+/**
+ * Takes the demo's release controller through review to its release unless that happened
+ * already (it runs after the seed's own transaction, so a start that died in between finishes
+ * it on the next start). Does nothing without the demo workspace or once the controller has a
+ * review or a release, so people's own demo activity is never redone.
+ */
+export async function ensureDemoRelease(db: Db): Promise<void> {
+  const [press] = await db
+    .select({ id: controllers.id })
+    .from(controllers)
+    .innerJoin(workspaces, eq(workspaces.id, controllers.workspaceId))
+    .where(and(eq(workspaces.slug, DEMO_WORKSPACE.slug), eq(controllers.slug, DEMO_RELEASE.controller)));
+  if (!press) return;
+  const [started] = await db.select({ id: reviews.id }).from(reviews).innerJoin(revisions, eq(revisions.id, reviews.revisionId)).where(eq(revisions.controllerId, press.id)).limit(1);
+  const [released] = await db.select({ id: releases.id }).from(releases).where(eq(releases.controllerId, press.id)).limit(1);
+  if (started || released) return;
   const idOf = async (role: 'editor' | 'reviewer') => {
     const email = DEMO_ACCOUNTS.find((a) => a.role === role)!.email;
     const [row] = await db.select({ id: users.id }).from(users).where(eq(users.email, email));
