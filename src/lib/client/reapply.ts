@@ -130,6 +130,24 @@ function changedWhereInputIsOne(base: FlowTable, mine: FlowTable, name: string):
   return false;
 }
 
+/** Whether `mine` gives output `name` another value than `base` in any cell (both have the same inputs by now). */
+function changedOutput(base: FlowTable, mine: FlowTable, name: string): boolean {
+  const bitOf = (t: FlowTable) => 1 << t.outputs.indexOf(name);
+  const cols = countColumns(mine.inputs.length);
+  for (const state of mine.states) {
+    const bs = base.states.indexOf(state);
+    const ms = mine.states.indexOf(state);
+    for (let c = 0; c < cols; c++) {
+      const mi = ms * cols + c;
+      const bi = bs * cols + c;
+      const mineSays = mine.next[mi] === NONE || !(mine.outCare[mi]! & bitOf(mine)) ? '-' : mine.outValue[mi]! & bitOf(mine) ? '1' : '0';
+      const baseSays = bs < 0 || base.next[bi] === NONE || !(base.outCare[bi]! & bitOf(base)) ? '-' : base.outValue[bi]! & bitOf(base) ? '1' : '0';
+      if (mineSays !== baseSays) return true;
+    }
+  }
+  return false;
+}
+
 /**
  * Inputs and outputs added or deleted on either side: each side's change is made on the other two
  * tables (an added input starts unspecified where it is 1; a deleted one keeps the cells where it
@@ -150,6 +168,7 @@ function alignInputsAndOutputs(base: FlowTable, mine: FlowTable, head: FlowTable
         applied++;
       } else if (inMine(x) && !inHead(x)) {
         if (kind === 'input' && changedWhereInputIsOne(b, m, x)) notes.push(`Your cells where input ${x} is 1 were not carried over: the newer revision deleted input ${x}.`);
+        if (kind === 'output' && changedOutput(b, m, x)) notes.push(`Your values of output ${x} were not carried over: the newer revision deleted output ${x}.`);
         m = applyEdit(m, deleteEdit(m, kind, x));
       }
       b = applyEdit(b, deleteEdit(b, kind, x));
@@ -265,7 +284,7 @@ export function reapplyEdits(base: FlowTable, mine: FlowTable, theirs: FlowTable
     if (at >= 0) {
       out = applyEdit(out, { kind: 'set-reset', index: at });
       applied++;
-    }
+    } else notes.push(`Your reset state ${myReset} was not carried over: the newer revision has no state ${myReset}.`);
   }
   if (mineR.settings.doubleChange !== base.settings.doubleChange) out.settings.doubleChange = mineR.settings.doubleChange;
   if (mineR.settings.prefix !== base.settings.prefix) {

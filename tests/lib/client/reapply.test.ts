@@ -163,4 +163,15 @@ describe('reapplyEdits', () => {
     expect(r.table!.states).toContain('held');
     expect(r.notes).toEqual(['Your cells where input key is 1 were not carried over: the newer revision deleted input key.']);
   });
+
+  it('names the output values and the reset state it cannot carry because the head deleted their output or state', () => {
+    const mine = edit(base, setCell(base, 'idle', '11', 'open', '1'));
+    const noUnlock = edit(base, { kind: 'add-output', name: 'lamp' }, { kind: 'delete-output', index: 0 });
+    expect(reapplyEdits(base, mine, noUnlock).notes).toEqual(['Your values of output unlock were not carried over: the newer revision deleted output unlock.']);
+    // Only a changed value counts: the same output untouched by the user gives no note.
+    expect(reapplyEdits(base, base, noUnlock).notes).toEqual([]);
+    const resetOpen = edit(base, { kind: 'set-reset', index: 2 });
+    const r = reapplyEdits(base, resetOpen, edit(base, { kind: 'delete-state', index: 2 }));
+    expect(r.notes).toEqual(['Your reset state open was not carried over: the newer revision has no state open.']);
+  });
 });
