@@ -106,44 +106,48 @@ function reorderTo(t: FlowTable, kind: IoKind, order: string[]): FlowTable {
   return out;
 }
 
-/** A cell named by its input values (inputs the table lacks are ignored; inputs it has that are not named count as 0). */
-function cellByInputs(t: FlowTable, state: string, values: ReadonlyMap<string, number>): string {
-  const s = t.states.indexOf(state);
-  if (s < 0) return '(no row)';
-  let column = 0;
-  t.inputs.forEach((name, k) => (column |= (values.get(name) ?? 0) << k));
-  return cellToText(t, s * countColumns(t.inputs.length) + column);
+/** For each column of `from`, the column of `to` with the same input values (inputs `to` lacks are dropped; its own extra inputs are 0). */
+function mapColumns(from: FlowTable, to: FlowTable): Int32Array {
+  const map = new Int32Array(countColumns(from.inputs.length));
+  const at = to.inputs.map((name) => from.inputs.indexOf(name));
+  for (let c = 0; c < map.length; c++) at.forEach((k, j) => (map[c]! |= k >= 0 ? ((c >> k) & 1) << j : 0));
+  return map;
 }
 
 /** Whether `mine` changed any cell of `base` where input `name` is 1 (those cells go when the head deletes that input). */
 function changedWhereInputIsOne(base: FlowTable, mine: FlowTable, name: string): boolean {
   const k = base.inputs.indexOf(name);
+  const toMine = mapColumns(base, mine);
+  const cols = countColumns(base.inputs.length);
+  const mineCols = countColumns(mine.inputs.length);
   // Rows the user added count too: against base they are all unspecified.
   for (const state of mine.states) {
-    for (let c = 0; c < countColumns(base.inputs.length); c++) {
+    const bs = base.states.indexOf(state);
+    const ms = mine.states.indexOf(state);
+    for (let c = 0; c < cols; c++) {
       if (!((c >> k) & 1)) continue;
-      const values = new Map(base.inputs.map((n, i) => [n, (c >> i) & 1] as const));
-      const before = base.states.includes(state) ? cellByInputs(base, state, values) : '-';
-      if (before !== cellByInputs(mine, state, values)) return true;
+      const before = bs < 0 ? '-' : cellToText(base, bs * cols + c);
+      if (before !== cellToText(mine, ms * mineCols + toMine[c]!)) return true;
     }
   }
   return false;
 }
 
+/** What a cell says of one output: '-' (unspecified or don't-care), '0' or '1'. */
+function outputAt(t: FlowTable, cell: number, bit: number): string {
+  if (cell < 0 || t.next[cell] === NONE || !(t.outCare[cell]! & bit)) return '-';
+  return t.outValue[cell]! & bit ? '1' : '0';
+}
+
 /** Whether `mine` gives output `name` another value than `base` in any cell (both have the same inputs by now). */
 function changedOutput(base: FlowTable, mine: FlowTable, name: string): boolean {
-  const bitOf = (t: FlowTable) => 1 << t.outputs.indexOf(name);
+  const baseBit = 1 << base.outputs.indexOf(name);
+  const mineBit = 1 << mine.outputs.indexOf(name);
   const cols = countColumns(mine.inputs.length);
   for (const state of mine.states) {
     const bs = base.states.indexOf(state);
     const ms = mine.states.indexOf(state);
-    for (let c = 0; c < cols; c++) {
-      const mi = ms * cols + c;
-      const bi = bs * cols + c;
-      const mineSays = mine.next[mi] === NONE || !(mine.outCare[mi]! & bitOf(mine)) ? '-' : mine.outValue[mi]! & bitOf(mine) ? '1' : '0';
-      const baseSays = bs < 0 || base.next[bi] === NONE || !(base.outCare[bi]! & bitOf(base)) ? '-' : base.outValue[bi]! & bitOf(base) ? '1' : '0';
-      if (mineSays !== baseSays) return true;
-    }
+    for (let c = 0; c < cols; c++) if (outputAt(mine, ms * cols + c, mineBit) !== outputAt(base, bs < 0 ? -1 : bs * cols + c, baseBit)) return true;
   }
   return false;
 }

@@ -5,14 +5,14 @@
  * format.ts.
  */
 import Handlebars from 'handlebars';
+import { HIDDEN_TEXT_CHARACTERS } from '../engine/model';
 import { TEMPLATE_SOURCES } from './template-sources';
 import type { CContext } from './targets/c';
 import type { RustContext } from './targets/rust';
 
-// Control characters, line separators and text-direction controls: what must never reach generated
-// text raw (names cannot hold them, but comments also carry descriptions and messages).
-// eslint-disable-next-line no-control-regex
-const UNSAFE_IN_TEXT = /[\u0000-\u001f\u007f-\u009f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069\ufeff]/g;
+// Names cannot hold these, but comments, strings and READMEs also carry descriptions and scenario names.
+const UNSAFE_IN_TEXT = new RegExp(`[${HIDDEN_TEXT_CHARACTERS}]`, 'g');
+const isUnsafeChar = (ch: string) => ch.search(UNSAFE_IN_TEXT) === 0;
 
 /** Text kept on one comment line: control characters, line separators and direction controls become visible escapes. */
 export function toCommentLine(text: string): string {
@@ -41,7 +41,7 @@ export function toRustString(text: string): string {
   for (const ch of text) {
     const code = ch.codePointAt(0)!;
     if (ch === '"' || ch === '\\') s += `\\${ch}`;
-    else if (ch.search(UNSAFE_IN_TEXT) === 0) s += `\\u{${code.toString(16)}}`;
+    else if (isUnsafeChar(ch)) s += `\\u{${code.toString(16)}}`;
     else s += ch;
   }
   return `${s}"`;
@@ -75,7 +75,7 @@ export function toTomlString(text: string): string {
     const code = ch.codePointAt(0)!;
     if (ch === '"' || ch === '\\') s += `\\${ch}`;
     else if (TOML_SHORT_ESCAPES[ch]) s += TOML_SHORT_ESCAPES[ch];
-    else if (ch.search(UNSAFE_IN_TEXT) === 0) s += `\\u${code.toString(16).padStart(4, '0')}`;
+    else if (isUnsafeChar(ch)) s += `\\u${code.toString(16).padStart(4, '0')}`;
     else if (code >= 0xd800 && code <= 0xdfff) s += '\\uFFFD';
     else s += ch;
   }

@@ -47,13 +47,19 @@ export type Scenario = z.infer<typeof scenarioSchema>;
 /** The rule every state, input and output name follows, as error messages state it. */
 export const NAME_RULES = 'names are 1 to 64 characters with no "/", no control, invisible or text-direction characters and no leading or trailing space';
 
-// Control characters (C0, DEL, C1), line and paragraph separators, the byte-order mark, the
-// text-direction controls, invisible fillers and tags, and lone surrogates: a name holding a
+/**
+ * Characters that must never stand raw in text people review or compilers read, as the body of a
+ * regular-expression character class: control characters (C0, DEL, C1), line and paragraph
+ * separators, text-direction controls and the byte-order mark. Generated code escapes them in
+ * free text; names refuse them outright.
+ */
+export const HIDDEN_TEXT_CHARACTERS = '\\u0000-\\u001f\\u007f-\\u009f\\u061c\\u200e\\u200f\\u2028-\\u202e\\u2066-\\u2069\\ufeff';
+
+// Names refuse those, and also "/", U+FFFD, invisible fillers and tags, and lone surrogates: a
 // direction override can make generated code and the review screens read differently from what
 // they are (rustc refuses them in comments and strings), an invisible character makes two names
 // look alike, and a lone surrogate cannot be stored as JSON. ZWJ and ZWNJ stay: scripts need them.
-// eslint-disable-next-line no-control-regex, no-misleading-character-class
-const FORBIDDEN_IN_NAMES = /[\u0000-\u001f\u007f-\u009f\u00ad\u061c\u115f\u1160\u180e\u200b\u200e\u200f\u2028-\u202e\u2060-\u2064\u2066-\u2069\u3164\ufeff\uffa0\ufff9-\ufffb\ufffd\u{e0000}-\u{e007f}\ud800-\udfff/]/u;
+const FORBIDDEN_IN_NAMES = new RegExp(`[${HIDDEN_TEXT_CHARACTERS}\\u00ad\\u115f\\u1160\\u180e\\u200b\\u2060-\\u2064\\u3164\\uffa0\\ufff9-\\ufffb\\ufffd\\u{e0000}-\\u{e007f}\\ud800-\\udfff/]`, 'u');
 
 // `__proto__` would silently vanish as an object key, and U+FFFD is what undecodable bytes become.
 const RESERVED_NAMES = new Set(['__proto__']);

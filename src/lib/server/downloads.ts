@@ -314,15 +314,19 @@ export interface DownloadAnswer {
   resolved: ResolvedBundle;
 }
 
-/** The answer to a resolved download: 304 when If-None-Match names the bundle, else the zip (or checksum). */
-function answerResolved(r: ResolvedBundle, request: DownloadRequest, bytes: () => Uint8Array): DownloadAnswer {
+/** Whether answering needs the zip's bytes: a bundle (not its checksum) the caller does not hold already. */
+function needsBytes(r: ResolvedBundle, request: DownloadRequest): boolean {
+  return request.what === 'bundle' && !etagMatches(request.ifNoneMatch, bundleEtag(r.bundle.sha256));
+}
+
+/** The answer to a resolved download: 304 when If-None-Match names the bundle, else the zip (`zip`, read when needsBytes) or checksum. */
+function answerResolved(r: ResolvedBundle, request: DownloadRequest, zip: Uint8Array | null): DownloadAnswer {
   const headers = bundleHeaders(r);
   if (request.what === 'bundle.sha256') headers['Content-Type'] = 'text/plain; charset=utf-8';
   if (etagMatches(request.ifNoneMatch, bundleEtag(r.bundle.sha256))) return { status: 304, headers, body: null, resolved: r };
   if (request.what === 'bundle.sha256') return { status: 200, headers, body: `${r.bundle.sha256}  ${r.filename}\n`, resolved: r };
-  const zip = bytes();
   headers['Content-Type'] = 'application/zip';
-  headers['Content-Length'] = String(zip.byteLength);
+  headers['Content-Length'] = String(zip!.byteLength);
   headers['Content-Disposition'] = `attachment; filename="${r.filename}"`;
   return { status: 200, headers, body: request.method === 'HEAD' ? null : zip, resolved: r };
 }
@@ -334,8 +338,8 @@ function answerResolved(r: ResolvedBundle, request: DownloadRequest, bytes: () =
 export async function answerDownload(db: Db, credentials: Credentials, request: DownloadRequest): Promise<DownloadAnswer> {
   const query = parseBundleQuery(request.search);
   const resolved = await resolveBundle(db, credentials, { ...request.params, ...query });
-  const zip = request.what === 'bundle' ? await readBundleBytes(db, resolved.bundle) : new Uint8Array();
-  const answer = answerResolved(resolved, request, () => zip);
+  const zip = needsBytes(resolved, request) ? await readBundleBytes(db, resolved.bundle) : null;
+  const answer = answerResolved(resolved, request, zip);
   await recordDownload(db, resolved, request.what, answer.status === 304);
   return answer;
 }
@@ -355,9 +359,10 @@ export function answerCachedDownload(bearer: string, request: DownloadRequest): 
   }
   const resolved = getCachedDownload<ResolvedBundle>(downloadCacheKey(bearer, { ...request.params, ...query }));
   if (!resolved) return null;
-  const zip = request.what === 'bundle' ? peekBundleBytes(resolved.bundle.sha256) : undefined;
-  if (request.what === 'bundle' && !zip) return null;
-  return answerResolved(resolved, request, () => zip!);
+  const wantsBytes = needsBytes(resolved, request);
+  const zip = wantsBytes ? (peekBundleBytes(resolved.bundle.sha256) ?? null) : null;
+  if (wantsBytes && !zip) return null;
+  return answerResolved(resolved, request, zip);
 }
 
 /** A download answer as a web Response. */

@@ -106,13 +106,13 @@ export async function ensureDemoRelease(db: Db): Promise<void> {
   const [started] = await db.select({ id: reviews.id }).from(reviews).innerJoin(revisions, eq(revisions.id, reviews.revisionId)).where(eq(revisions.controllerId, press.id)).limit(1);
   const [released] = await db.select({ id: releases.id }).from(releases).where(eq(releases.controllerId, press.id)).limit(1);
   if (started || released) return;
-  const idOf = async (role: 'editor' | 'reviewer') => {
+  const memberOf = async (role: 'editor' | 'reviewer') => {
     const email = DEMO_ACCOUNTS.find((a) => a.role === role)!.email;
     const [row] = await db.select({ id: users.id }).from(users).where(eq(users.email, email));
     return requireMember(db, row!.id, DEMO_WORKSPACE.slug);
   };
-  const editor = await idOf('editor');
-  const reviewer = await idOf('reviewer');
+  const editor = await memberOf('editor');
+  const reviewer = await memberOf('reviewer');
   const controller = await requireController(db, editor.workspace.id, DEMO_RELEASE.controller);
   const link = { origin: readConfig().publicOrigin ?? `http://127.0.0.1:${process.env.PORT ?? 4321}`, workspaceSlug: DEMO_WORKSPACE.slug };
   await requestReview(db, editor, controller, 1, { note: 'Power-up lockout and both-hands timing as in the safety concept.' }, link);
