@@ -38,10 +38,6 @@ function cellAt(t: FlowTable, state: string, key: string): string {
   return cellToText(t, s * countColumns(t.inputs.length) + keyToColumn(key));
 }
 
-function sameList(a: string[], b: string[]): boolean {
-  return a.length === b.length && a.every((x, i) => x === b[i]);
-}
-
 /**
  * Renames base → mine: a name at some position of base that mine no longer has, where mine has
  * at the same position a name base does not have (a rename keeps its place; a delete and an add do not).
